@@ -1,0 +1,37 @@
+"""sqlstat: experiment metrics -> one warehouse query -> tested statistics.
+
+Public API:
+    load_spec(path) -> Experiment            read and check a TOML spec
+    parse_spec(text, base_dir) -> Experiment check spec text
+    sql(spec, dialect) -> str                the one read-only SELECT for a dialect
+    run(spec, db=..., connection=...)        compile, execute, analyse -> Analysis
+    analyse(spec, rows) -> Analysis          rows from the query -> results
+    DIALECTS                                 supported dialects and their capabilities
+    SqlstatError, SpecError, ...             the error tree
+Reports: sqlstat.report.to_text / to_json / to_csv.
+"""
+
+from .api import analyse, run, sql
+from .dialects import DIALECTS
+from .errors import CompileError, DataProblem, EngineError, SpecError, SqlstatError, UsageError
+from .model import Experiment, Metric
+from .spec import load_spec, parse_spec
+
+__version__ = "0.1.0"
+
+__all__ = [
+    "DIALECTS",
+    "CompileError",
+    "DataProblem",
+    "EngineError",
+    "Experiment",
+    "Metric",
+    "SpecError",
+    "SqlstatError",
+    "UsageError",
+    "analyse",
+    "load_spec",
+    "parse_spec",
+    "run",
+    "sql",
+]

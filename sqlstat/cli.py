@@ -1,0 +1,130 @@
+"""Command line -> one library call per command; errors become one 'Error: ...' line.
+
+Exit codes: 0 success, 1 the analysis ran but found a data problem (sample-ratio
+mismatch, a comparison the data cannot support), 2 usage or spec error, 3 engine or
+connection error. --debug shows the traceback instead.
+"""
+
+from __future__ import annotations
+
+import sys
+from enum import Enum
+from pathlib import Path
+from typing import Optional
+
+import typer
+
+from .errors import SqlstatError
+
+app = typer.Typer(
+    name="sqlstat",
+    help="Experiment metrics -> one read-only SQL query -> tested statistics.",
+    add_completion=False,
+    no_args_is_help=True,
+    pretty_exceptions_enable=False,
+    rich_markup_mode=None,
+)
+
+
+class Format(str, Enum):
+    table = "table"
+    json = "json"
+    csv = "csv"
+
+
+SPEC = typer.Argument(..., help="The experiment spec (TOML).", show_default=False)
+DEBUG = typer.Option(False, "--debug", help="Show the full traceback on errors.")
+FORCE = typer.Option(False, "--force", help="Replace an existing output file of another kind.")
+
+
+def _fail(err: Exception, debug: bool) -> None:
+    if debug:
+        raise err
+    if isinstance(err, SqlstatError):
+        typer.echo(f"Error: {err}", err=True)
+        raise typer.Exit(err.exit_code)
+    raise err
+
+
+def _emit(text: str, output: Optional[Path], kinds: tuple[str, ...], force: bool) -> None:
+    if output is None:
+        sys.stdout.write(text)
+        return
+    from .files import write_atomic
+
+    write_atomic(output, text, kinds=kinds, force=force)
+    typer.echo(f"wrote {output}", err=True)
+
+
+@app.command()
+def run(
+    spec: Path = SPEC,
+    db: Optional[str] = typer.Option(
+        None, "--db", help="Database URL: duckdb:///file.db, postgresql://..., mysql://..., sqlite:///file.db. "
+        "Default: DuckDB in memory (reads .parquet/.csv sources).",
+    ),
+    fmt: Format = typer.Option(Format.table, "--format", "-f", help="table, json or csv (one row per metric and arm)."),
+    output: Optional[Path] = typer.Option(None, "--output", "-o", help="Write to this file (atomically) instead of stdout."),
+    force: bool = FORCE,
+    debug: bool = DEBUG,
+) -> None:
+    """Compile the spec, run the query on the engine and print the readout."""
+    try:
+        from . import api
+        from .report import render
+
+        analysis = api.run(spec, db=db)
+        kinds = {"table": (".txt",), "json": (".json",), "csv": (".csv",)}[fmt.value]
+        _emit(render(analysis, fmt.value), output, kinds, force)
+    except Exception as err:  # noqa: BLE001 - mapped to exit codes in _fail
+        _fail(err, debug)
+        return
+    if analysis.data_problem:
+        raise typer.Exit(1)
+
+
+@app.command()
+def sql(
+    spec: Path = SPEC,
+    dialect: str = typer.Option("duckdb", "--dialect", "-d", help="Target SQL dialect (see `sqlstat dialects`)."),
+    output: Optional[Path] = typer.Option(None, "--output", "-o", help="Write the SQL to this file (atomically)."),
+    force: bool = FORCE,
+    debug: bool = DEBUG,
+) -> None:
+    """Print the experiment's one read-only SELECT for a dialect, ready to paste."""
+    try:
+        from . import api
+
+        _emit(api.sql(spec, dialect), output, (".sql",), force)
+    except Exception as err:  # noqa: BLE001
+        _fail(err, debug)
+
+
+@app.command()
+def check(spec: Path = SPEC, debug: bool = DEBUG) -> None:
+    """Validate the spec and print the plan: the test each metric will get and why."""
+    try:
+        from .report import plan_text
+        from .spec import load_spec
+
+        sys.stdout.write(plan_text(load_spec(spec)))
+    except Exception as err:  # noqa: BLE001
+        _fail(err, debug)
+
+
+@app.command()
+def dialects() -> None:
+    """List the SQL dialects sqlstat emits and how each is covered by the tests."""
+    from .dialects import DIALECTS
+
+    width = max(len(n) for n in DIALECTS)
+    for d in DIALECTS.values():
+        typer.echo(f"{d.name.ljust(width)}  {d.title}: {d.executed}")
+
+
+def main() -> None:  # console-script entry point
+    app()
+
+
+if __name__ == "__main__":  # pragma: no cover
+    main()

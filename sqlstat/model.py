@@ -1,0 +1,96 @@
+"""The checked experiment model: plain frozen dataclasses that every later stage reads.
+
+spec.py builds these from a TOML file; compile.py turns them into SQL. Expressions are
+held as sqlglot trees that have already passed the allow-list in expressions.py.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+from pathlib import Path
+from typing import Literal
+
+from sqlglot import exp
+
+MetricKind = Literal["proportion", "mean"]
+SourceKind = Literal["file", "table", "query"]
+Missing = Literal["zero", "exclude"]
+
+METRIC_KINDS: tuple[str, ...] = ("proportion", "mean")
+MISSING_POLICIES: tuple[str, ...] = ("zero", "exclude")
+
+# Test ids, as they appear in every output. The parametric ones are computed in SQL;
+# fisher_exact is chosen in Python from the returned counts when they are too small.
+TEST_TWO_PROPORTION_Z = "two_proportion_z"
+TEST_FISHER_EXACT = "fisher_exact"
+TEST_Z_KNOWN_SIGMA = "z_known_sigma"
+TEST_WELCH_T = "welch_t"
+TEST_STUDENT_T = "student_t"
+
+
+@dataclass(frozen=True, eq=False)
+class Source:
+    """Where rows come from: a file DuckDB can read, a table name, or a parenthesised SELECT."""
+
+    kind: SourceKind
+    text: str  # as written in the spec
+    path: Path | None = None  # resolved file path, for kind == "file"
+    table: exp.Table | None = None  # parsed name, for kind == "table"
+    query: exp.Query | None = None  # parsed SELECT, for kind == "query"
+
+
+@dataclass(frozen=True, eq=False)
+class Relation:
+    """A source plus the columns that tie it to units (and arms, for the assignment)."""
+
+    source: Source
+    unit: exp.Column
+    arm: exp.Column | None = None  # only the assignment has an arm column
+    per_unit: bool = False  # the source promises one row per unit: no per-unit regroup
+    where: exp.Expression | None = None  # row filter, validated
+
+
+@dataclass(frozen=True, eq=False)
+class Metric:
+    """One metric, aggregated per unit first and then per arm."""
+
+    index: int
+    name: str
+    kind: MetricKind
+    value: exp.Expression  # per-unit value: an aggregate, or a row expression if per_unit
+    value_text: str
+    sigma: float | None = None  # known population standard deviation -> z test
+    equal_variance: bool = False  # Student's pooled t instead of Welch's t
+    missing: Missing = "zero"  # a unit whose value is NULL counts as 0, or is left out
+
+    @property
+    def planned_test(self) -> str:
+        """The test the SQL computes a statistic for (proportions may fall back to Fisher)."""
+        if self.kind == "proportion":
+            return TEST_TWO_PROPORTION_Z
+        if self.sigma is not None:
+            return TEST_Z_KNOWN_SIGMA
+        return TEST_STUDENT_T if self.equal_variance else TEST_WELCH_T
+
+
+@dataclass(frozen=True, eq=False)
+class Experiment:
+    """A whole experiment: who is in which arm, what to measure, and how strict to be."""
+
+    name: str
+    control: str
+    assignment: Relation
+    metrics: tuple[Metric, ...]
+    events: Relation | None = None
+    alpha: float = 0.05
+    weights: dict[str, float] | None = None  # planned split; equal split when None
+    arms: tuple[str, ...] | None = None  # declared arm labels, when the spec lists them
+    sample_ratio_alpha: float = 0.001
+    spec_path: Path | None = None
+    notes: tuple[str, ...] = field(default_factory=tuple)
+
+    def metric(self, name: str) -> Metric:
+        for m in self.metrics:
+            if m.name == name:
+                return m
+        raise KeyError(name)

@@ -1,0 +1,237 @@
+"""Analysis -> what people read: a terminal table, JSON (the documented contract) or CSV."""
+
+from __future__ import annotations
+
+import csv
+import io
+import json
+import math
+from typing import TYPE_CHECKING, Any
+
+if TYPE_CHECKING:  # report only reads results; importing stats would pull in SciPy
+    from .stats import Analysis, TestResult
+
+CAUTION = (
+    "How to read this: a p-value is the chance of a difference at least this large if the arms "
+    "truly did not differ; it is not the chance that the treatment works, and not the size of the "
+    "effect (read the interval for that). Checking results repeatedly before the planned sample "
+    "size, or scanning many metrics and arms, makes some 'significant' result likely by chance; "
+    "a test with too few units can miss a real effect. Treat this readout as one input to a "
+    "decision, next to cost, risk and what else is known."
+)
+
+
+def _num(x: Any) -> Any:
+    """JSON has no NaN or infinity: use null for them."""
+    if isinstance(x, float) and not math.isfinite(x):
+        return None
+    return x
+
+
+def result_dict(r: TestResult) -> dict[str, Any]:
+    return {
+        "metric": r.metric,
+        "kind": r.kind,
+        "arm": r.arm,
+        "test": r.test,
+        "reason": r.reason,
+        "control": {"n": r.control.n, "mean": _num(r.control.mean), "variance": _num(r.control.variance)},
+        "treatment": {"n": r.treatment.n, "mean": _num(r.treatment.mean), "variance": _num(r.treatment.variance)},
+        "estimate": _num(r.estimate),
+        "std_error": _num(r.std_error),
+        "statistic": _num(r.statistic),
+        "statistic_name": r.statistic_name,
+        "df": _num(r.df),
+        "p_value": _num(r.p_value),
+        "ci_low": _num(r.ci_low),
+        "ci_high": _num(r.ci_high),
+        "alternative": r.alternative,
+        "significant": r.significant,
+        "notes": list(r.notes),
+    }
+
+
+def to_dict(a: Analysis) -> dict[str, Any]:
+    """The JSON contract: fields may be added over time, never renamed."""
+    srm = a.sample_ratio
+    return {
+        "experiment": a.experiment,
+        "control": a.control,
+        "alpha": a.alpha,
+        "arms": [{"arm": arm, "units": units} for arm, units in a.arms],
+        "excluded_units": a.excluded_units,
+        "sample_ratio": None if srm is None else {
+            "statistic": _num(srm.statistic),
+            "df": srm.df,
+            "p_value": _num(srm.p_value),
+            "alpha": srm.alpha,
+            "mismatch": srm.mismatch,
+            "expected": {arm: e for arm, e in zip(srm.arms, srm.expected)},
+        },
+        "results": [result_dict(r) for r in a.results],
+        "notes": list(a.notes),
+        "caution": CAUTION,
+    }
+
+
+def to_json(a: Analysis) -> str:
+    return json.dumps(to_dict(a), indent=2, allow_nan=False) + "\n"
+
+
+CSV_COLUMNS = (
+    "experiment", "metric", "kind", "arm", "test", "control_n", "control_mean", "control_variance",
+    "treatment_n", "treatment_mean", "treatment_variance", "estimate", "std_error", "statistic",
+    "statistic_name", "df", "p_value", "ci_low", "ci_high", "alpha", "significant", "reason", "notes",
+)
+
+
+def to_csv(a: Analysis) -> str:
+    """One row per (metric, treatment arm)."""
+    out = io.StringIO()
+    w = csv.writer(out, lineterminator="\n")
+    w.writerow(CSV_COLUMNS)
+    for r in a.results:
+        w.writerow([
+            a.experiment, r.metric, r.kind, r.arm, r.test, r.control.n, _csv(r.control.mean),
+            _csv(r.control.variance), r.treatment.n, _csv(r.treatment.mean), _csv(r.treatment.variance),
+            _csv(r.estimate), _csv(r.std_error), _csv(r.statistic), r.statistic_name, _csv(r.df),
+            _csv(r.p_value), _csv(r.ci_low), _csv(r.ci_high), a.alpha, str(r.significant).lower(),
+            r.reason, " | ".join(r.notes),
+        ])
+    return out.getvalue()
+
+
+def _csv(x: Any) -> str:
+    if x is None or (isinstance(x, float) and not math.isfinite(x)):
+        return ""
+    return repr(x) if isinstance(x, float) else str(x)
+
+
+def _fmt(x: Any, digits: int = 4) -> str:
+    if x is None or (isinstance(x, float) and not math.isfinite(x)):
+        return "-"
+    if isinstance(x, int):
+        return f"{x:,}"
+    if x != 0 and (abs(x) >= 1e6 or abs(x) < 1e-3):
+        return f"{x:.{digits - 1}e}"
+    return f"{x:.{digits}g}"
+
+
+def _p(p: float) -> str:
+    if not isinstance(p, float) or not math.isfinite(p):
+        return "-"
+    return "<1e-16" if p < 1e-16 else (f"{p:.2e}" if p < 1e-4 else f"{p:.4f}")
+
+
+def _table(headers: list[str], rows: list[list[str]]) -> str:
+    widths = [max(len(h), *(len(r[i]) for r in rows)) if rows else len(h) for i, h in enumerate(headers)]
+    line = "  ".join(h.ljust(w) for h, w in zip(headers, widths))
+    rule = "  ".join("-" * w for w in widths)
+    body = ["  ".join(c.rjust(w) if i > 1 else c.ljust(w) for i, (c, w) in enumerate(zip(r, widths))) for r in rows]
+    return "\n".join([line, rule, *body])
+
+
+def to_text(a: Analysis) -> str:
+    """The terminal readout."""
+    conf = f"{(1 - a.alpha) * 100:g}%"
+    out = [f"Experiment: {a.experiment}    control arm: {a.control}    alpha: {a.alpha:g}", ""]
+    out.append("Units per arm: " + ", ".join(f"{arm} {units:,}" for arm, units in a.arms))
+    srm = a.sample_ratio
+    if srm is None:
+        out.append("Sample-ratio check: not possible (fewer than two arms with units)")
+    else:
+        verdict = (
+            f"MISMATCH (p < {srm.alpha:g}): the split differs from the plan; fix assignment before trusting any result"
+            if srm.mismatch else f"ok (no mismatch at {srm.alpha:g})"
+        )
+        out.append(
+            f"Sample-ratio check (chi-square vs planned split): chi2 = {srm.statistic:.3f}, df = {srm.df}, "
+            f"p = {_p(srm.p_value)}: {verdict}"
+        )
+    for n in a.notes:
+        out.append(f"Note: {n}")
+    out.append("")
+    headers = ["metric", "arm", "ctrl n", "ctrl mean", "trt n", "trt mean", "difference",
+               f"{conf} interval", "test", "stat", "df", "p-value", "significant"]
+    rows = []
+    for r in a.results:
+        rows.append([
+            r.metric, r.arm, _fmt(r.control.n), _fmt(r.control.mean), _fmt(r.treatment.n), _fmt(r.treatment.mean),
+            _fmt(r.estimate), f"[{_fmt(r.ci_low)}, {_fmt(r.ci_high)}]", r.test,
+            f"{r.statistic_name}={_fmt(r.statistic, 3)}", f"{r.df:.1f}" if r.df is not None else "-", _p(r.p_value),
+            "yes" if r.significant else "no",
+        ])
+    out.append(_table(headers, rows))
+    out.append("")
+    out.append("Why these tests:")
+    seen = set()
+    for r in a.results:
+        if (r.metric, r.test) in seen:
+            continue
+        seen.add((r.metric, r.test))
+        out.append(f"  {r.metric} ({r.test}): {r.reason}")
+    flagged = [(r.metric, r.arm, n) for r in a.results for n in r.notes if not n.startswith("interval:")]
+    if flagged:
+        out.append("")
+        out.append("Notes:")
+        for metric, arm, note in flagged:
+            out.append(f"  {metric} / {arm}: {note}")
+    if len(a.results) > 1:
+        out.append("")
+        out.append(
+            f"Multiplicity: {len(a.results)} comparisons were tested at alpha = {a.alpha:g} each, without adjustment; "
+            f"expect about {len(a.results) * a.alpha:.2g} false positives if nothing differs."
+        )
+    out.append("")
+    out.append(CAUTION)
+    return "\n".join(out) + "\n"
+
+
+def render(a: Analysis, fmt: str) -> str:
+    if fmt == "json":
+        return to_json(a)
+    if fmt == "csv":
+        return to_csv(a)
+    return to_text(a)
+
+
+def plan_text(experiment: Any) -> str:
+    """What ``sqlstat check`` prints: the spec as understood and the test each metric will get."""
+    from .expressions import CANONICAL
+    from .model import TEST_TWO_PROPORTION_Z
+
+    e = experiment
+    src = e.assignment.source
+    out = [f"Spec OK: experiment {e.name!r}, control arm {e.control!r}, alpha {e.alpha:g}"]
+    split = (", ".join(f"{k} {v:g}" for k, v in e.weights.items()) if e.weights else "equal split")
+    out.append(f"Arms: {', '.join(e.arms) if e.arms else 'taken from the data'}; planned split: {split}")
+    out.append(
+        f"Assignment: {src.text} (unit {e.assignment.unit.sql(CANONICAL)}, arm {e.assignment.arm.sql(CANONICAL)}"
+        + (", one row per unit" if e.assignment.per_unit else "") + ")"
+    )
+    if e.events is not None:
+        out.append(
+            f"Events: {e.events.source.text} (unit {e.events.unit.sql(CANONICAL)}"
+            + (", one row per unit" if e.events.per_unit else ", aggregated per unit") + ")"
+        )
+    out.append("")
+    out.append("Metrics and the test each will get:")
+    for m in e.metrics:
+        out.append(f"  {m.name} [{m.kind}] value = {m.value.sql(CANONICAL)}")
+        if m.planned_test == TEST_TWO_PROPORTION_Z:
+            out.append(
+                "    two_proportion_z if every arm has >= 10 successes and >= 10 failures "
+                "(common practice); otherwise fisher_exact on the counts"
+            )
+        elif m.planned_test == "z_known_sigma":
+            out.append(f"    z_known_sigma: z test with the given sigma = {m.sigma:g}")
+        elif m.planned_test == "student_t":
+            out.append("    student_t: pooled-variance t test (equal_variance = true)")
+        else:
+            out.append("    welch_t: Welch's t test with Welch-Satterthwaite df; an arm under 30 units gets a normality note")
+        if m.missing == "exclude":
+            out.append("    units without a value are left out of this metric")
+    out.append("")
+    out.append("Sample-ratio check: chi-square goodness of fit of units per arm, mismatch if "
+               f"p < {e.sample_ratio_alpha:g}")
+    return "\n".join(out) + "\n"

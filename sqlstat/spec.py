@@ -1,0 +1,341 @@
+"""TOML spec file -> checked Experiment model, or one SpecError listing every problem found.
+
+Key paths in messages look like ``experiment.control`` or ``metric[2].kind`` (metrics
+counted from 1, in file order); lines come from the TOML text itself.
+"""
+
+from __future__ import annotations
+
+import difflib
+import math
+import re
+import tomllib
+from pathlib import Path
+from typing import Any
+
+from . import expressions as ex
+from .errors import Problem, SpecError
+from .model import METRIC_KINDS, MISSING_POLICIES, Experiment, Metric, Relation, Source
+
+EXPERIMENT_KEYS = ("name", "control", "alpha", "weights", "arms", "sample_ratio_alpha", "description")
+ASSIGNMENT_KEYS = ("source", "unit", "arm", "per_unit", "where")
+EVENTS_KEYS = ("source", "unit", "per_unit", "where")
+METRIC_KEYS = ("name", "kind", "value", "sigma", "equal_variance", "missing", "description")
+TOP_KEYS = ("experiment", "assignment", "events", "metric")
+FILE_SUFFIXES = (".parquet", ".csv", ".csv.gz", ".tsv", ".json", ".jsonl", ".ndjson")
+_NAME = re.compile(r"^[A-Za-z_][A-Za-z0-9_.\-]{0,99}$")
+
+
+class _Locator:
+    """Finds the line of a key path in TOML text (headers, array-of-tables, plain keys)."""
+
+    _HEADER = re.compile(r"^\s*(\[\[?)\s*([A-Za-z0-9_.\"' -]+?)\s*\]\]?\s*(#.*)?$")
+    _KEY = re.compile(r"^\s*(\"[^\"]*\"|'[^']*'|[A-Za-z0-9_-]+)\s*=")
+
+    def __init__(self, text: str):
+        self.lines = text.splitlines()
+        self.index: dict[str, int] = {}
+        counts: dict[str, int] = {}
+        table = ""
+        for no, line in enumerate(self.lines, start=1):
+            head = self._HEADER.match(line)
+            if head:
+                name = head.group(2).strip().strip("\"'")
+                if head.group(1) == "[[":
+                    counts[name] = counts.get(name, 0) + 1
+                    table = f"{name}[{counts[name]}]"
+                else:
+                    table = name
+                self.index.setdefault(table, no)
+                continue
+            key = self._KEY.match(line)
+            if key:
+                k = key.group(1).strip("\"'")
+                self.index.setdefault(f"{table}.{k}" if table else k, no)
+
+    def problem(self, key: str, message: str) -> Problem:
+        probe = key
+        while probe:
+            if probe in self.index:
+                no = self.index[probe]
+                return Problem(message, key, no, self.lines[no - 1])
+            probe = probe.rpartition(".")[0]
+        return Problem(message, key)
+
+
+def _suggest(word: str, choices: tuple[str, ...] | list[str]) -> str:
+    hit = difflib.get_close_matches(str(word), list(choices), n=1, cutoff=0.6)
+    return f"; did you mean {hit[0]!r}?" if hit else ""
+
+
+def _toml_syntax_problem(err: tomllib.TOMLDecodeError, text: str) -> Problem:
+    m = re.search(r"\(at line (\d+), column (\d+)\)", str(err))
+    line = int(m.group(1)) if m else None
+    lines = text.splitlines()
+    src = lines[line - 1] if line and line <= len(lines) else None
+    msg = re.sub(r"\s*\(at line \d+, column \d+\)", "", str(err))
+    return Problem(f"TOML syntax error: {msg}", "", line, src)
+
+
+class _Checker:
+    def __init__(self, text: str, base_dir: Path):
+        self.loc = _Locator(text)
+        self.base_dir = base_dir
+        self.problems: list[Problem] = []
+
+    def add(self, key: str, message: str) -> None:
+        self.problems.append(self.loc.problem(key, message))
+
+    def table(self, doc: dict, key: str, required: bool) -> dict | None:
+        value = doc.get(key)
+        if value is None:
+            if required:
+                self.problems.append(Problem(f"missing table [{key}]", key))
+            return None
+        if not isinstance(value, dict):
+            self.add(key, f"[{key}] must be a table")
+            return None
+        return value
+
+    def unknown_keys(self, table: dict, allowed: tuple[str, ...], path: str) -> None:
+        for k in table:
+            if k not in allowed:
+                self.add(f"{path}.{k}", f"unknown key {k!r}{_suggest(k, allowed)} (allowed: {', '.join(allowed)})")
+
+    def string(self, table: dict, key: str, path: str, required: bool = True) -> str | None:
+        value = table.get(key)
+        if value is None:
+            if required:
+                self.add(f"{path}.{key}" if path in self.loc.index else path, f"missing required key {key!r} in [{path.split('[')[0]}]")
+            return None
+        if not isinstance(value, str) or not value.strip():
+            self.add(f"{path}.{key}", f"{key!r} must be a non-empty string")
+            return None
+        return value
+
+    def boolean(self, table: dict, key: str, path: str) -> bool:
+        value = table.get(key, False)
+        if not isinstance(value, bool):
+            self.add(f"{path}.{key}", f"{key!r} must be true or false")
+            return False
+        return value
+
+    def column(self, table: dict, key: str, path: str, required: bool = True):
+        text = self.string(table, key, path, required)
+        if text is None:
+            return None
+        try:
+            return ex.parse_column(text, key)
+        except ex.ExpressionProblem as err:
+            self.add(f"{path}.{key}", str(err))
+            return None
+
+    def source(self, table: dict, path: str) -> Source | None:
+        text = self.string(table, "source", path)
+        if text is None:
+            return None
+        stripped = text.strip()
+        try:
+            if stripped.startswith("("):
+                return Source("query", text, query=ex.parse_query(stripped, "source"))
+            if stripped.lower().endswith(FILE_SUFFIXES) or "/" in stripped or "\\" in stripped:
+                if "\x00" in stripped or any(ord(c) < 32 for c in stripped):
+                    raise ex.ExpressionProblem("source: a file path cannot contain control characters")
+                p = Path(stripped)
+                resolved = p if p.is_absolute() else (self.base_dir / p)
+                if not stripped.lower().endswith(FILE_SUFFIXES):
+                    raise ex.ExpressionProblem(
+                        f"source: {text!r} looks like a path but is not a .parquet/.csv/.json file; "
+                        f"give a table name, a file, or a parenthesised SELECT"
+                    )
+                return Source("file", text, path=Path(resolved))
+            return Source("table", text, table=ex.parse_table(stripped, "source"))
+        except ex.ExpressionProblem as err:
+            self.add(f"{path}.source", str(err))
+            return None
+
+    def relation(self, table: dict, path: str, with_arm: bool) -> Relation | None:
+        src = self.source(table, path)
+        unit = self.column(table, "unit", path)
+        arm = self.column(table, "arm", path) if with_arm else None
+        per_unit = self.boolean(table, "per_unit", path)
+        where = None
+        if "where" in table:
+            text = self.string(table, "where", path)
+            if text is not None:
+                try:
+                    where = ex.parse_filter(text, "where")
+                except ex.ExpressionProblem as err:
+                    self.add(f"{path}.where", str(err))
+        if src is None or unit is None or (with_arm and arm is None):
+            return None
+        return Relation(src, unit, arm, per_unit, where)
+
+    def probability(self, table: dict, key: str, path: str, default: float) -> float:
+        value = table.get(key, default)
+        if isinstance(value, bool) or not isinstance(value, (int, float)) or not (0 < value < 1):
+            self.add(f"{path}.{key}", f"{key!r} must be a number strictly between 0 and 1, got {value!r}")
+            return default
+        return float(value)
+
+    def metric(self, table: Any, number: int, per_unit: bool) -> Metric | None:
+        path = f"metric[{number}]"
+        if not isinstance(table, dict):
+            self.add(path, "each [[metric]] must be a table")
+            return None
+        self.unknown_keys(table, METRIC_KEYS, path)
+        name = self.string(table, "name", path)
+        if name is not None and not _NAME.match(name):
+            self.add(f"{path}.name", "metric name must start with a letter or _ and use letters, digits, _ . - (at most 100)")
+            name = None
+        kind = table.get("kind")
+        if kind is None:
+            self.add(path, f"missing required key 'kind' (one of: {', '.join(METRIC_KINDS)})")
+        elif kind not in METRIC_KINDS:
+            self.add(f"{path}.kind", f"unknown kind {kind!r}{_suggest(kind, METRIC_KINDS)} (allowed: {', '.join(METRIC_KINDS)})")
+            kind = None
+        value = None
+        text = self.string(table, "value", path)
+        if text is not None:
+            try:
+                value = ex.parse_value(text, "value", aggregated=not per_unit)
+            except ex.ExpressionProblem as err:
+                self.add(f"{path}.value", str(err))
+        sigma = table.get("sigma")
+        if sigma is not None:
+            if kind == "proportion":
+                self.add(f"{path}.sigma", "'sigma' applies to mean metrics only; a proportion's variance follows from its rate")
+            if isinstance(sigma, bool) or not isinstance(sigma, (int, float)) or not (sigma > 0 and math.isfinite(sigma)):
+                self.add(f"{path}.sigma", f"'sigma' must be a positive number, got {sigma!r}")
+                sigma = None
+            else:
+                sigma = float(sigma)
+        equal_variance = self.boolean(table, "equal_variance", path)
+        if equal_variance and kind == "proportion":
+            self.add(f"{path}.equal_variance", "'equal_variance' applies to mean metrics only")
+        if equal_variance and sigma is not None:
+            self.add(f"{path}.equal_variance", "give either 'sigma' (z test) or 'equal_variance' (Student's t), not both")
+        missing = table.get("missing", "zero")
+        if missing not in MISSING_POLICIES:
+            self.add(f"{path}.missing", f"'missing' must be one of: {', '.join(MISSING_POLICIES)}{_suggest(missing, MISSING_POLICIES)}")
+            missing = "zero"
+        if name is None or kind is None or value is None:
+            return None
+        return Metric(number - 1, name, kind, value, text, sigma, equal_variance, missing)
+
+
+def load_spec(path: str | Path) -> Experiment:
+    """Read and check a spec file. Raises SpecError naming file, key path and line."""
+    path = Path(path)
+    try:
+        text = path.read_text(encoding="utf-8")
+    except FileNotFoundError:
+        raise SpecError([Problem(f"spec file not found: {path}")], str(path)) from None
+    except (OSError, UnicodeDecodeError) as err:
+        raise SpecError([Problem(f"cannot read spec file: {err}")], str(path)) from None
+    return parse_spec(text, base_dir=path.parent, file=str(path))
+
+
+def parse_spec(text: str, base_dir: str | Path = ".", file: str | None = None) -> Experiment:
+    """Check spec text (TOML) and build the Experiment. Raises SpecError with every problem."""
+    try:
+        doc = tomllib.loads(text)
+    except tomllib.TOMLDecodeError as err:
+        raise SpecError([_toml_syntax_problem(err, text)], file) from None
+    c = _Checker(text, Path(base_dir))
+    for k in doc:
+        if k not in TOP_KEYS:
+            c.add(k, f"unknown table [{k}]{_suggest(k, TOP_KEYS)} (allowed: {', '.join(TOP_KEYS)})")
+
+    exp_t = c.table(doc, "experiment", required=True) or {}
+    c.unknown_keys(exp_t, EXPERIMENT_KEYS, "experiment")
+    name = c.string(exp_t, "name", "experiment")
+    control = exp_t.get("control")
+    if control is None:
+        c.add("experiment", "missing required key 'control' (the label of the control arm)")
+    elif isinstance(control, bool) or not isinstance(control, (str, int)) or str(control).strip() == "":
+        c.add("experiment.control", "'control' must be the control arm's label (a string or an integer)")
+        control = None
+    else:
+        control = str(control)
+    alpha = c.probability(exp_t, "alpha", "experiment", 0.05)
+    srm_alpha = c.probability(exp_t, "sample_ratio_alpha", "experiment", 0.001)
+
+    arms = None
+    if "arms" in exp_t:
+        raw = exp_t["arms"]
+        if not isinstance(raw, list) or len(raw) < 2 or not all(isinstance(a, (str, int)) and not isinstance(a, bool) for a in raw):
+            c.add("experiment.arms", "'arms' must list at least two arm labels")
+        elif any(str(a).strip() == "" for a in raw):
+            c.add("experiment.arms", "'arms' has an empty arm label; every arm needs a name")
+        elif len({str(a) for a in raw}) != len(raw):
+            c.add("experiment.arms", "'arms' lists a label twice")
+        else:
+            arms = tuple(str(a) for a in raw)
+
+    weights = None
+    if "weights" in exp_t:
+        raw = exp_t["weights"]
+        if not isinstance(raw, dict) or len(raw) < 2:
+            c.add("experiment.weights", "'weights' must map at least two arm labels to their planned shares")
+        elif any(str(k).strip() == "" for k in raw):
+            c.add("experiment.weights", "'weights' has an empty arm label; every arm needs a name")
+        else:
+            bad = [k for k, v in raw.items() if isinstance(v, bool) or not isinstance(v, (int, float)) or not (v > 0 and math.isfinite(v))]
+            if bad:
+                c.add("experiment.weights", f"weights must be positive numbers; check {', '.join(map(repr, bad))}")
+            else:
+                weights = {str(k): float(v) for k, v in raw.items()}
+                if arms is not None and set(weights) != set(arms):
+                    c.add("experiment.weights", f"'weights' names arms {sorted(weights)} but 'arms' lists {sorted(arms)}")
+    declared = arms or (tuple(weights) if weights else None)
+    if control is not None and declared is not None and control not in declared:
+        c.add("experiment.control", f"control arm {control!r} is not among the declared arms {list(declared)}{_suggest(control, list(declared))}")
+
+    asg_t = c.table(doc, "assignment", required=True)
+    assignment = None
+    if asg_t is not None:
+        c.unknown_keys(asg_t, ASSIGNMENT_KEYS, "assignment")
+        assignment = c.relation(asg_t, "assignment", with_arm=True)
+
+    ev_t = c.table(doc, "events", required=False)
+    events = None
+    if ev_t is not None:
+        c.unknown_keys(ev_t, EVENTS_KEYS, "events")
+        events = c.relation(ev_t, "events", with_arm=False)
+    value_source = ev_t if ev_t is not None else (asg_t or {})
+    per_unit_values = bool(value_source.get("per_unit", False)) if isinstance(value_source.get("per_unit", False), bool) else False
+
+    raw_metrics = doc.get("metric")
+    metrics: list[Metric] = []
+    if raw_metrics is None:
+        c.problems.append(Problem("no metrics: add at least one [[metric]] table", "metric"))
+    elif not isinstance(raw_metrics, list):
+        c.add("metric", "metrics are written as [[metric]] tables (an array of tables)")
+    else:
+        seen: dict[str, int] = {}
+        for i, t in enumerate(raw_metrics, start=1):
+            m = c.metric(t, i, per_unit_values)
+            if m is None:
+                continue
+            if m.name in seen:
+                c.add(f"metric[{i}].name", f"metric name {m.name!r} is already used by metric[{seen[m.name]}]")
+                continue
+            seen[m.name] = i
+            metrics.append(m)
+
+    if c.problems:
+        raise SpecError(c.problems, file)
+    assert name is not None and control is not None and assignment is not None
+    return Experiment(
+        name=name,
+        control=control,
+        assignment=assignment,
+        metrics=tuple(metrics),
+        events=events,
+        alpha=alpha,
+        weights=weights,
+        arms=arms or (tuple(weights) if weights else None),
+        sample_ratio_alpha=srm_alpha,
+        spec_path=Path(file) if file else None,
+    )
