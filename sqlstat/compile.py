@@ -22,9 +22,13 @@ from .model import Experiment, Metric, Relation, Source
 
 # Columns of every row the query returns, one row per (metric, arm), in this order.
 RESULT_COLUMNS = (
-    "metric_index", "metric", "kind", "method", "arm", "is_control", "units", "excluded_units",
-    "n", "total", "mean", "variance", "invalid", "control_n", "control_total", "control_mean",
-    "control_variance", "difference", "std_error", "null_std_error", "statistic", "df",
+    "metric_index", "metric", "kind", "method", "segment_index", "segment", "segment_value", "arm",
+    "is_control", "units", "excluded_units", "n", "total", "mean", "variance", "invalid", "x_n",
+    "x_total", "x_mean", "x_variance", "xy_covariance", "value", "value_std_error", "control_n",
+    "control_total", "control_mean", "control_variance", "control_value", "control_value_std_error",
+    "difference", "estimate", "std_error", "null_std_error", "statistic", "df", "theta",
+    "variance_reduction", "relative_lift", "lift_std_error", "direction", "margin", "relative_margin",
+    "margin_statistic", "target", "target_statistic", "target_df",
 )
 
 
@@ -94,32 +98,87 @@ def _relation(rel: Relation, dialect: Dialect) -> dict:
     }
 
 
-def _metric(m: Metric) -> dict:
-    value = m.value
-    if is_predicate(value):
+def _number(x: float | None) -> str:
+    return "NULL" if x is None else repr(float(x))
+
+
+def _value_sql(node: exp.Expression) -> str:
+    if is_predicate(node):
         # Booleans do not aggregate or cast alike everywhere: make them 1/0 where computed.
-        value = exp.Case(ifs=[exp.If(this=value.copy(), true=exp.Literal.number(1))], default=exp.Literal.number(0))
-    return {
-        "index": m.index,
-        "name": _literal(m.name),
-        "kind": m.kind,
-        "kind_literal": _literal(m.kind),
-        "method": _literal(m.planned_test),
-        "sigma": "NULL" if m.sigma is None else repr(float(m.sigma)),
-        "value": _sql(value),
-        "missing": m.missing,
-    }
+        node = exp.Case(ifs=[exp.If(this=node.copy(), true=exp.Literal.number(1))], default=exp.Literal.number(0))
+    return _sql(node)
+
+
+def _measures(experiment: Experiment) -> tuple[list[dict], list[dict], list[dict]]:
+    """Per-unit measures (each a column of the per-unit table), covariance pairs, metrics."""
+    measures: list[dict] = []
+    pairs: list[dict] = []
+    metrics: list[dict] = []
+
+    def add(node: exp.Expression, origin: str, missing: str, check_binary: bool) -> str:
+        key = str(len(measures))
+        measures.append({"key": key, "sql": _value_sql(node), "origin": origin, "missing": missing,
+                         "check_binary": check_binary})
+        return key
+
+    for m in experiment.metrics:
+        y = add(m.value, "main", m.missing, m.kind == "proportion")
+        x = None
+        if m.denominator is not None:
+            x = add(m.denominator, "main", "zero", False)
+        elif m.covariate is not None:
+            # A unit with no pre-period rows has a covariate of 0, like any count or sum.
+            x = add(m.covariate, "pre", "zero", False)
+        if x is not None:
+            pairs.append({"a": y, "b": x})
+        margin = m.margin
+        metrics.append({
+            "index": m.index,
+            "name": _literal(m.name),
+            "kind": m.kind,
+            "kind_literal": _literal(m.kind),
+            "method": _literal(m.planned_test),
+            "sigma": _number(m.sigma),
+            "direction": _literal(m.better) if m.better else "CAST(NULL AS VARCHAR)",
+            "margin": _number(margin),
+            "relative_margin": _number(m.relative_margin),
+            "target": _number(m.target),
+            "y": y,
+            "x": x,
+            "check_binary": m.kind == "proportion",
+        })
+    return measures, pairs, metrics
+
+
+def _pre_period(experiment: Experiment, dialect: Dialect) -> dict | None:
+    pp = experiment.pre_period
+    if pp is None:
+        return None
+    start = exp.cast(exp.Literal.string(pp.start), "DATE")
+    end = exp.cast(exp.Literal.string(pp.end), "DATE")
+    window = exp.and_(exp.GTE(this=pp.time.copy(), expression=start), exp.LT(this=pp.time.copy(), expression=end))
+    if pp.where is not None:
+        window = exp.and_(window, exp.Paren(this=pp.where.copy()))
+    return {"source": _source_sql(pp.source, dialect), "unit": _sql(pp.unit), "window": _sql(window)}
 
 
 def render_canonical(experiment: Experiment, dialect: str | Dialect = "duckdb") -> str:
     """The query in canonical DuckDB SQL, shaped for the target's capabilities."""
     d = dialect if isinstance(dialect, Dialect) else get_dialect(dialect)
+    measures, pairs, metrics = _measures(experiment)
     context = {
         "assignment": _relation(experiment.assignment, d),
         "events": _relation(experiment.events, d) if experiment.events is not None else None,
-        "metrics": [_metric(m) for m in experiment.metrics],
+        "pre_period": _pre_period(experiment, d),
+        "measures": measures,
+        "pairs": pairs,
+        "metrics": metrics,
+        "segments": [
+            {"index": i, "column": _sql(col), "name": _literal(col.name)}
+            for i, col in enumerate(experiment.segments, start=1)
+        ],
         "control": _literal(experiment.control),
-        "caps": {"variance": d.variance},
+        "caps": {"variance": d.variance, "covariance": d.covariance},
     }
     return _environment().get_template("experiment.sql.j2").render(**context)
 

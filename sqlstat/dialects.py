@@ -28,6 +28,10 @@ class Dialect:
     # an unstable one), so the template subtracts each arm's mean with a window AVG first
     # and uses the corrected two-pass formula of Chan, Golub and LeVeque (1983).
     variance: str = "native"
+    # Sample covariance (ratio metrics, CUPED). "native": a stable COVAR_SAMP exists.
+    # "via_variance": none exists, so cov(a, b) = (var(a + b) - var(a) - var(b)) / 2 with the
+    # stable variance aggregate. "centred" follows the variance strategy of the same name.
+    covariance: str = "native"
     # Aggregates to call by another name in this dialect (stable variants, missing aliases).
     renames: dict[type[exp.Expression], str] = field(default_factory=dict)
     reads_files: bool = False  # can read .parquet/.csv paths as a source (DuckDB only)
@@ -38,9 +42,10 @@ _DIALECTS = [
     Dialect("duckdb", "duckdb", "DuckDB", reads_files=True, executed="executed (embedded)"),
     Dialect("postgres", "postgres", "PostgreSQL", executed="executed (server)"),
     # MariaDB has no sqlglot dialect of its own; MySQL's is the right one for what we emit.
-    Dialect("mysql", "mysql", "MySQL / MariaDB", executed="executed on MariaDB (server)"),
+    # MySQL and MariaDB have VAR_SAMP but no covariance aggregate.
+    Dialect("mysql", "mysql", "MySQL / MariaDB", covariance="via_variance", executed="executed on MariaDB (server)"),
     # SQLite has no variance aggregate at all.
-    Dialect("sqlite", "sqlite", "SQLite", variance="centred", executed="executed (embedded)"),
+    Dialect("sqlite", "sqlite", "SQLite", variance="centred", covariance="centred", executed="executed (embedded)"),
     Dialect("spark", "spark", "Spark SQL", executed="executed (pyspark, local mode)"),
     Dialect("databricks", "databricks", "Databricks SQL"),
     # varSamp/covarSamp lose all digits on data with a large offset; the *Stable variants do not.
@@ -53,10 +58,12 @@ _DIALECTS = [
     ),
     Dialect("snowflake", "snowflake", "Snowflake"),
     Dialect("bigquery", "bigquery", "BigQuery"),
-    Dialect("redshift", "redshift", "Amazon Redshift"),
+    # Redshift documents no covariance aggregate.
+    Dialect("redshift", "redshift", "Amazon Redshift", covariance="via_variance"),
     Dialect("trino", "trino", "Trino / Presto"),
     # T-SQL spells the sample variance VAR (sqlglot would print VARIANCE, which T-SQL lacks).
-    Dialect("tsql", "tsql", "SQL Server (T-SQL)", renames={exp.Variance: "VAR"}),
+    # T-SQL has no covariance aggregate either.
+    Dialect("tsql", "tsql", "SQL Server (T-SQL)", covariance="via_variance", renames={exp.Variance: "VAR"}),
 ]
 
 DIALECTS: dict[str, Dialect] = {d.name: d for d in _DIALECTS}

@@ -12,12 +12,17 @@ from typing import Literal
 
 from sqlglot import exp
 
-MetricKind = Literal["proportion", "mean"]
+MetricKind = Literal["proportion", "mean", "ratio"]
 SourceKind = Literal["file", "table", "query"]
 Missing = Literal["zero", "exclude"]
+Role = Literal["primary", "secondary", "guardrail"]
+Correction = Literal["none", "holm", "bh"]
 
-METRIC_KINDS: tuple[str, ...] = ("proportion", "mean")
+METRIC_KINDS: tuple[str, ...] = ("proportion", "mean", "ratio")
 MISSING_POLICIES: tuple[str, ...] = ("zero", "exclude")
+ROLES: tuple[str, ...] = ("primary", "secondary", "guardrail")
+DIRECTIONS: tuple[str, ...] = ("higher", "lower")
+CORRECTIONS: tuple[str, ...] = ("none", "holm", "bh")
 
 # Test ids, as they appear in every output. The parametric ones are computed in SQL;
 # fisher_exact is chosen in Python from the returned counts when they are too small.
@@ -26,6 +31,12 @@ TEST_FISHER_EXACT = "fisher_exact"
 TEST_Z_KNOWN_SIGMA = "z_known_sigma"
 TEST_WELCH_T = "welch_t"
 TEST_STUDENT_T = "student_t"
+TEST_RATIO_DELTA_Z = "ratio_delta_z"  # ratio of per-unit sums, delta-method standard error
+TEST_CUPED_WELCH_T = "cuped_welch_t"  # covariate-adjusted (CUPED) difference, Welch df
+# One-arm checks against a fixed target
+TEST_BINOMIAL_EXACT = "binomial_exact"
+TEST_ONE_SAMPLE_Z = "one_sample_z"
+TEST_ONE_SAMPLE_T = "one_sample_t"
 
 
 @dataclass(frozen=True, eq=False)
@@ -51,6 +62,24 @@ class Relation:
 
 
 @dataclass(frozen=True, eq=False)
+class PrePeriod:
+    """Rows from before the experiment: CUPED covariates and the baseline for planning."""
+
+    source: Source
+    unit: exp.Column
+    time: exp.Column  # timestamp or date column that places a row in the window
+    start: str  # ISO date, inclusive
+    end: str  # ISO date, exclusive
+    where: exp.Expression | None = None
+
+    @property
+    def days(self) -> int:
+        from datetime import date
+
+        return (date.fromisoformat(self.end) - date.fromisoformat(self.start)).days
+
+
+@dataclass(frozen=True, eq=False)
 class Metric:
     """One metric, aggregated per unit first and then per arm."""
 
@@ -62,10 +91,22 @@ class Metric:
     sigma: float | None = None  # known population standard deviation -> z test
     equal_variance: bool = False  # Student's pooled t instead of Welch's t
     missing: Missing = "zero"  # a unit whose value is NULL counts as 0, or is left out
+    denominator: exp.Expression | None = None  # ratio metrics: per-unit denominator
+    covariate: exp.Expression | None = None  # CUPED: per-unit value over the pre-period rows
+    role: Role = "secondary"
+    better: str | None = None  # "higher" or "lower": which direction is good
+    margin: float | None = None  # guardrails: tolerated harm, absolute (in metric units)
+    relative_margin: float | None = None  # guardrails: tolerated harm, relative to control
+    target: float | None = None  # one-arm check: compare every arm with this value
+    description: str = ""
 
     @property
     def planned_test(self) -> str:
         """The test the SQL computes a statistic for (proportions may fall back to Fisher)."""
+        if self.kind == "ratio":
+            return TEST_RATIO_DELTA_Z
+        if self.covariate is not None:
+            return TEST_CUPED_WELCH_T
         if self.kind == "proportion":
             return TEST_TWO_PROPORTION_Z
         if self.sigma is not None:
@@ -86,8 +127,18 @@ class Experiment:
     weights: dict[str, float] | None = None  # planned split; equal split when None
     arms: tuple[str, ...] | None = None  # declared arm labels, when the spec lists them
     sample_ratio_alpha: float = 0.001
+    segments: tuple[exp.Column, ...] = ()  # unit attributes (assignment columns) to break down by
+    pre_period: PrePeriod | None = None
+    corrections: dict[str, str] = field(
+        default_factory=lambda: {"primary": "none", "secondary": "bh", "guardrail": "none", "segment": "bh"}
+    )
+    power: float = 0.8  # planning default
     spec_path: Path | None = None
     notes: tuple[str, ...] = field(default_factory=tuple)
+
+    @property
+    def primary(self) -> tuple[Metric, ...]:
+        return tuple(m for m in self.metrics if m.role == "primary")
 
     def metric(self, name: str) -> Metric:
         for m in self.metrics:

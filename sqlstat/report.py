@@ -28,30 +28,58 @@ def _num(x: Any) -> Any:
     return x
 
 
-def result_dict(r: TestResult) -> dict[str, Any]:
+def _guardrail_dict(g: Any) -> dict[str, Any] | None:
+    if g is None:
+        return None
+    return {
+        "better": g.direction,
+        "margin": g.margin,
+        "margin_type": "relative" if g.relative else "absolute",
+        "statistic": _num(g.statistic),
+        "p_value": _num(g.p_value),
+        "p_value_adjusted": _num(g.p_value_adjusted),
+        "bound": _num(g.bound),
+        "held": g.held,
+        "harm": g.harm,
+    }
+
+
+def result_dict(r: "TestResult") -> dict[str, Any]:
     return {
         "metric": r.metric,
         "kind": r.kind,
+        "role": r.role,
+        "segment": r.segment,
+        "segment_value": r.segment_value,
         "arm": r.arm,
         "test": r.test,
         "reason": r.reason,
         "control": {"n": r.control.n, "mean": _num(r.control.mean), "variance": _num(r.control.variance)},
         "treatment": {"n": r.treatment.n, "mean": _num(r.treatment.mean), "variance": _num(r.treatment.variance)},
         "estimate": _num(r.estimate),
+        "difference": _num(r.difference),
         "std_error": _num(r.std_error),
         "statistic": _num(r.statistic),
         "statistic_name": r.statistic_name,
         "df": _num(r.df),
         "p_value": _num(r.p_value),
+        "p_value_adjusted": _num(r.p_value_adjusted),
+        "correction": r.correction,
+        "family": r.family,
         "ci_low": _num(r.ci_low),
         "ci_high": _num(r.ci_high),
+        "relative_lift": _num(r.relative_lift),
+        "lift_ci_low": _num(r.lift_ci_low),
+        "lift_ci_high": _num(r.lift_ci_high),
         "alternative": r.alternative,
         "significant": r.significant,
+        "cuped": None if r.theta is None else {"theta": _num(r.theta), "variance_reduction": _num(r.variance_reduction)},
+        "guardrail": _guardrail_dict(r.guardrail),
         "notes": list(r.notes),
     }
 
 
-def to_dict(a: Analysis) -> dict[str, Any]:
+def to_dict(a: "Analysis") -> dict[str, Any]:
     """The JSON contract: fields may be added over time, never renamed."""
     srm = a.sample_ratio
     return {
@@ -68,35 +96,46 @@ def to_dict(a: Analysis) -> dict[str, Any]:
             "mismatch": srm.mismatch,
             "expected": {arm: e for arm, e in zip(srm.arms, srm.expected)},
         },
+        "corrections": dict(a.corrections),
         "results": [result_dict(r) for r in a.results],
+        "targets": [
+            {"metric": t.metric, "kind": t.kind, "arm": t.arm, "target": t.target, "value": _num(t.value), "n": t.n,
+             "test": t.test, "reason": t.reason, "statistic": _num(t.statistic), "df": _num(t.df),
+             "alternative": t.alternative, "p_value": _num(t.p_value), "significant": t.significant}
+            for t in a.targets
+        ],
+        "decisions": [{"arm": d.arm, "verdict": d.verdict, "reasons": list(d.reasons)} for d in a.decisions],
         "notes": list(a.notes),
         "caution": CAUTION,
     }
 
 
-def to_json(a: Analysis) -> str:
+def to_json(a: "Analysis") -> str:
     return json.dumps(to_dict(a), indent=2, allow_nan=False) + "\n"
 
 
 CSV_COLUMNS = (
-    "experiment", "metric", "kind", "arm", "test", "control_n", "control_mean", "control_variance",
-    "treatment_n", "treatment_mean", "treatment_variance", "estimate", "std_error", "statistic",
-    "statistic_name", "df", "p_value", "ci_low", "ci_high", "alpha", "significant", "reason", "notes",
+    "experiment", "metric", "kind", "role", "segment", "segment_value", "arm", "test", "control_n",
+    "control_mean", "control_variance", "treatment_n", "treatment_mean", "treatment_variance", "estimate",
+    "std_error", "statistic", "statistic_name", "df", "p_value", "p_value_adjusted", "correction", "ci_low",
+    "ci_high", "relative_lift", "lift_ci_low", "lift_ci_high", "alpha", "significant", "guardrail_held",
+    "reason", "notes",
 )
 
 
-def to_csv(a: Analysis) -> str:
-    """One row per (metric, treatment arm)."""
+def to_csv(a: "Analysis") -> str:
+    """One row per (metric, segment, treatment arm)."""
     out = io.StringIO()
     w = csv.writer(out, lineterminator="\n")
     w.writerow(CSV_COLUMNS)
     for r in a.results:
         w.writerow([
-            a.experiment, r.metric, r.kind, r.arm, r.test, r.control.n, _csv(r.control.mean),
-            _csv(r.control.variance), r.treatment.n, _csv(r.treatment.mean), _csv(r.treatment.variance),
-            _csv(r.estimate), _csv(r.std_error), _csv(r.statistic), r.statistic_name, _csv(r.df),
-            _csv(r.p_value), _csv(r.ci_low), _csv(r.ci_high), a.alpha, str(r.significant).lower(),
-            r.reason, " | ".join(r.notes),
+            a.experiment, r.metric, r.kind, r.role, r.segment or "", r.segment_value or "", r.arm, r.test,
+            r.control.n, _csv(r.control.mean), _csv(r.control.variance), r.treatment.n, _csv(r.treatment.mean),
+            _csv(r.treatment.variance), _csv(r.estimate), _csv(r.std_error), _csv(r.statistic), r.statistic_name,
+            _csv(r.df), _csv(r.p_value), _csv(r.p_value_adjusted), r.correction, _csv(r.ci_low), _csv(r.ci_high),
+            _csv(r.relative_lift), _csv(r.lift_ci_low), _csv(r.lift_ci_high), a.alpha, str(r.significant).lower(),
+            "" if r.guardrail is None else str(r.guardrail.held).lower(), r.reason, " | ".join(r.notes),
         ])
     return out.getvalue()
 
@@ -131,7 +170,30 @@ def _table(headers: list[str], rows: list[list[str]]) -> str:
     return "\n".join([line, rule, *body])
 
 
-def to_text(a: Analysis) -> str:
+def _pct(x: Any) -> str:
+    return "-" if not isinstance(x, float) or not math.isfinite(x) else f"{x:+.1%}"
+
+
+CORRECTION_NAMES = {"none": "none", "holm": "Holm", "bh": "Benjamini-Hochberg"}
+
+
+def _result_rows(results: list, conf: str) -> tuple[list[str], list[list[str]]]:
+    headers = ["metric", "arm", "ctrl n", "ctrl mean", "trt n", "trt mean", "estimate",
+               f"{conf} interval", "lift", "test", "stat", "df", "p-value", "adj. p", "sig."]
+    rows = []
+    for r in results:
+        rows.append([
+            r.metric if r.segment is None else f"{r.metric} [{r.segment}={r.segment_value}]", r.arm,
+            _fmt(r.control.n), _fmt(r.control.mean), _fmt(r.treatment.n), _fmt(r.treatment.mean),
+            _fmt(r.estimate), f"[{_fmt(r.ci_low)}, {_fmt(r.ci_high)}]", _pct(r.relative_lift), r.test,
+            f"{r.statistic_name}={_fmt(r.statistic, 3)}", f"{r.df:.1f}" if r.df is not None else "-",
+            _p(r.p_value), _p(r.p_value_adjusted) if r.correction != "none" else "-",
+            "yes" if r.significant else "no",
+        ])
+    return headers, rows
+
+
+def to_text(a: "Analysis") -> str:
     """The terminal readout."""
     conf = f"{(1 - a.alpha) * 100:g}%"
     out = [f"Experiment: {a.experiment}    control arm: {a.control}    alpha: {a.alpha:g}", ""]
@@ -149,38 +211,71 @@ def to_text(a: Analysis) -> str:
             f"p = {_p(srm.p_value)}: {verdict}"
         )
     for n in a.notes:
-        out.append(f"Note: {n}")
+        if not n.startswith("segment results"):
+            out.append(f"Note: {n}")
+    if a.decisions:
+        out.append("")
+        out.append("Verdict per treatment arm (input to a decision, not the decision itself):")
+        for d in a.decisions:
+            out.append(f"  {d.arm}: {d.verdict.upper()}")
+            for reason in d.reasons:
+                out.append(f"    - {reason}")
     out.append("")
-    headers = ["metric", "arm", "ctrl n", "ctrl mean", "trt n", "trt mean", "difference",
-               f"{conf} interval", "test", "stat", "df", "p-value", "significant"]
-    rows = []
-    for r in a.results:
-        rows.append([
-            r.metric, r.arm, _fmt(r.control.n), _fmt(r.control.mean), _fmt(r.treatment.n), _fmt(r.treatment.mean),
-            _fmt(r.estimate), f"[{_fmt(r.ci_low)}, {_fmt(r.ci_high)}]", r.test,
-            f"{r.statistic_name}={_fmt(r.statistic, 3)}", f"{r.df:.1f}" if r.df is not None else "-", _p(r.p_value),
-            "yes" if r.significant else "no",
-        ])
+    out.append(f"Results (estimate = treatment - control; lift = estimate / control; {conf} two-sided intervals):")
+    headers, rows = _result_rows(list(a.overall), conf)
     out.append(_table(headers, rows))
+    guards = [r for r in a.overall if r.guardrail is not None]
+    if guards:
+        out.append("")
+        out.append("Guardrails (one-sided non-inferiority test against the tolerated harm):")
+        g_rows = []
+        for r in guards:
+            g = r.guardrail
+            margin = f"{g.margin:.1%} of control" if g.relative else f"{g.margin:g}"
+            point = _pct(r.relative_lift) if g.relative else _fmt(r.estimate)
+            g_rows.append([r.metric, r.arm, f"{g.direction} is better", margin, point,
+                           _pct(g.bound) if g.relative else _fmt(g.bound), _p(g.p_value_adjusted),
+                           "HELD" if g.held else ("HARM" if g.harm else "not shown")])
+        out.append(_table(["metric", "arm", "direction", "tolerated harm", "estimate", "worst plausible",
+                           "p (one-sided)", "status"], g_rows))
+    if a.targets:
+        out.append("")
+        out.append("Checks against a fixed target (one arm at a time):")
+        t_rows = [[t.metric, t.arm, _fmt(t.value), f"{t.target:g}", t.alternative, t.test, _fmt(t.statistic, 3),
+                   _p(t.p_value), "yes" if t.significant else "no"] for t in a.targets]
+        out.append(_table(["metric", "arm", "value", "target", "alternative", "test", "stat", "p-value", "sig."], t_rows))
+    if a.segmented:
+        out.append("")
+        method = CORRECTION_NAMES.get(a.corrections.get("segment", "none"), "none")
+        out.append(f"Segments (exploratory; p-values adjusted across all segment rows: {method}; not used in the verdict):")
+        headers, rows = _result_rows(list(a.segmented), conf)
+        out.append(_table(headers, rows))
     out.append("")
     out.append("Why these tests:")
     seen = set()
-    for r in a.results:
+    for r in a.overall:
         if (r.metric, r.test) in seen:
             continue
         seen.add((r.metric, r.test))
         out.append(f"  {r.metric} ({r.test}): {r.reason}")
-    flagged = [(r.metric, r.arm, n) for r in a.results for n in r.notes if not n.startswith("interval:")]
+    flagged = [(r.metric, r.arm, n) for r in a.overall for n in r.notes if not n.startswith("interval:")]
     if flagged:
         out.append("")
         out.append("Notes:")
         for metric, arm, note in flagged:
             out.append(f"  {metric} / {arm}: {note}")
-    if len(a.results) > 1:
-        out.append("")
+    families = {}
+    for r in a.overall:
+        families.setdefault(r.family, []).append(r)
+    out.append("")
+    parts = [f"{fam} ({len(rs)} comparisons): {CORRECTION_NAMES.get(rs[0].correction, rs[0].correction)}"
+             for fam, rs in families.items()]
+    out.append("Multiple comparisons: " + "; ".join(parts) + ".")
+    unadjusted = sum(len(rs) for rs in families.values() if rs[0].correction == "none")
+    if unadjusted > 1:
         out.append(
-            f"Multiplicity: {len(a.results)} comparisons were tested at alpha = {a.alpha:g} each, without adjustment; "
-            f"expect about {len(a.results) * a.alpha:.2g} false positives if nothing differs."
+            f"  {unadjusted} comparisons are unadjusted at alpha = {a.alpha:g} each; "
+            f"expect about {unadjusted * a.alpha:.2g} false positives among them if nothing differs."
         )
     out.append("")
     out.append(CAUTION)

@@ -6,6 +6,7 @@ counted from 1, in file order); lines come from the TOML text itself.
 
 from __future__ import annotations
 
+import datetime as _dt
 import difflib
 import math
 import re
@@ -15,13 +16,23 @@ from typing import Any
 
 from . import expressions as ex
 from .errors import Problem, SpecError
-from .model import METRIC_KINDS, MISSING_POLICIES, Experiment, Metric, Relation, Source
+from .model import (
+    CORRECTIONS, DIRECTIONS, METRIC_KINDS, MISSING_POLICIES, ROLES, Experiment, Metric, PrePeriod, Relation, Source,
+)
 
-EXPERIMENT_KEYS = ("name", "control", "alpha", "weights", "arms", "sample_ratio_alpha", "description")
+EXPERIMENT_KEYS = (
+    "name", "control", "alpha", "weights", "arms", "sample_ratio_alpha", "segments", "correction",
+    "power", "description",
+)
 ASSIGNMENT_KEYS = ("source", "unit", "arm", "per_unit", "where")
 EVENTS_KEYS = ("source", "unit", "per_unit", "where")
-METRIC_KEYS = ("name", "kind", "value", "sigma", "equal_variance", "missing", "description")
-TOP_KEYS = ("experiment", "assignment", "events", "metric")
+METRIC_KEYS = (
+    "name", "kind", "value", "numerator", "denominator", "sigma", "equal_variance", "missing",
+    "cuped", "covariate", "role", "better", "margin", "relative_margin", "target", "description",
+)
+PRE_PERIOD_KEYS = ("source", "unit", "time", "start", "end", "where")
+CORRECTION_KEYS = ("primary", "secondary", "guardrail", "segment")
+TOP_KEYS = ("experiment", "assignment", "events", "pre_period", "metric")
 FILE_SUFFIXES = (".parquet", ".csv", ".csv.gz", ".tsv", ".json", ".jsonl", ".ndjson")
 _NAME = re.compile(r"^[A-Za-z_][A-Za-z0-9_.\-]{0,99}$")
 
@@ -178,7 +189,33 @@ class _Checker:
             return default
         return float(value)
 
-    def metric(self, table: Any, number: int, per_unit: bool) -> Metric | None:
+    def number(self, table: dict, key: str, path: str, *, positive: bool = False) -> float | None:
+        value = table.get(key)
+        if value is None:
+            return None
+        if isinstance(value, bool) or not isinstance(value, (int, float)) or not math.isfinite(value) or (positive and value <= 0):
+            self.add(f"{path}.{key}", f"{key!r} must be a {'positive ' if positive else ''}number, got {value!r}")
+            return None
+        return float(value)
+
+    def choice(self, table: dict, key: str, path: str, choices: tuple[str, ...], default: str | None) -> str | None:
+        value = table.get(key, default)
+        if value is None or value in choices:
+            return value
+        self.add(f"{path}.{key}", f"{key!r} must be one of: {', '.join(choices)}, got {value!r}{_suggest(str(value), choices)}")
+        return default
+
+    def expression(self, table: dict, key: str, path: str, aggregated: bool, required: bool):
+        text = self.string(table, key, path, required=required)
+        if text is None:
+            return None, None
+        try:
+            return ex.parse_value(text, key, aggregated=aggregated), text
+        except ex.ExpressionProblem as err:
+            self.add(f"{path}.{key}", str(err))
+            return None, text
+
+    def metric(self, table: Any, number: int, per_unit: bool, has_pre_period: bool) -> Metric | None:
         path = f"metric[{number}]"
         if not isinstance(table, dict):
             self.add(path, "each [[metric]] must be a table")
@@ -194,34 +231,107 @@ class _Checker:
         elif kind not in METRIC_KINDS:
             self.add(f"{path}.kind", f"unknown kind {kind!r}{_suggest(kind, METRIC_KINDS)} (allowed: {', '.join(METRIC_KINDS)})")
             kind = None
-        value = None
-        text = self.string(table, "value", path)
-        if text is not None:
-            try:
-                value = ex.parse_value(text, "value", aggregated=not per_unit)
-            except ex.ExpressionProblem as err:
-                self.add(f"{path}.value", str(err))
-        sigma = table.get("sigma")
-        if sigma is not None:
-            if kind == "proportion":
-                self.add(f"{path}.sigma", "'sigma' applies to mean metrics only; a proportion's variance follows from its rate")
-            if isinstance(sigma, bool) or not isinstance(sigma, (int, float)) or not (sigma > 0 and math.isfinite(sigma)):
-                self.add(f"{path}.sigma", f"'sigma' must be a positive number, got {sigma!r}")
-                sigma = None
-            else:
-                sigma = float(sigma)
+        value = denominator = None
+        text = ""
+        if kind == "ratio":
+            if "value" in table:
+                self.add(f"{path}.value", "a ratio metric takes 'numerator' and 'denominator' instead of 'value'")
+            value, text = self.expression(table, "numerator", path, not per_unit, required=True)
+            denominator, _ = self.expression(table, "denominator", path, not per_unit, required=True)
+        else:
+            for k in ("numerator", "denominator"):
+                if k in table:
+                    self.add(f"{path}.{k}", f"{k!r} is for ratio metrics (kind = \"ratio\"); use 'value'")
+            value, text = self.expression(table, "value", path, not per_unit, required=True)
+        sigma = self.number(table, "sigma", path, positive=True)
+        if sigma is not None and kind != "mean":
+            self.add(f"{path}.sigma", "'sigma' applies to mean metrics only; a proportion's variance follows from its rate")
         equal_variance = self.boolean(table, "equal_variance", path)
-        if equal_variance and kind == "proportion":
+        if equal_variance and kind != "mean":
             self.add(f"{path}.equal_variance", "'equal_variance' applies to mean metrics only")
         if equal_variance and sigma is not None:
             self.add(f"{path}.equal_variance", "give either 'sigma' (z test) or 'equal_variance' (Student's t), not both")
-        missing = table.get("missing", "zero")
-        if missing not in MISSING_POLICIES:
-            self.add(f"{path}.missing", f"'missing' must be one of: {', '.join(MISSING_POLICIES)}{_suggest(missing, MISSING_POLICIES)}")
-            missing = "zero"
-        if name is None or kind is None or value is None:
+        missing = self.choice(table, "missing", path, MISSING_POLICIES, "zero")
+
+        covariate = None
+        cuped = self.boolean(table, "cuped", path)
+        if cuped and "covariate" in table:
+            self.add(f"{path}.cuped", "give either 'cuped = true' (the metric's own value before the experiment) or 'covariate', not both")
+        elif cuped or "covariate" in table:
+            if not has_pre_period:
+                self.add(f"{path}.{'cuped' if cuped else 'covariate'}", "CUPED needs a [pre_period] table saying where and when the pre-experiment rows are")
+            elif kind == "ratio":
+                self.add(f"{path}.{'cuped' if cuped else 'covariate'}", "CUPED adjustment of ratio metrics is not supported; use it on mean or proportion metrics")
+            elif sigma is not None or equal_variance:
+                self.add(f"{path}.{'cuped' if cuped else 'covariate'}", "CUPED uses its own Welch test; drop 'sigma' / 'equal_variance'")
+            elif cuped:
+                if per_unit:
+                    self.add(f"{path}.cuped", "with per_unit events the value is a row expression; write the pre-period aggregate as 'covariate'")
+                else:
+                    covariate = value
+            else:
+                covariate, _ = self.expression(table, "covariate", path, True, required=True)
+
+        role = self.choice(table, "role", path, ROLES, "secondary")
+        better = self.choice(table, "better", path, DIRECTIONS, None)
+        margin = self.number(table, "margin", path, positive=True)
+        relative_margin = self.number(table, "relative_margin", path, positive=True)
+        if role == "guardrail":
+            if better is None:
+                self.add(path, "a guardrail needs 'better' (\"higher\" or \"lower\") to know which way is harm")
+            if (margin is None) == (relative_margin is None):
+                self.add(path, "a guardrail needs exactly one of 'margin' (absolute) or 'relative_margin' (e.g. 0.05 for 5%)")
+        elif margin is not None or relative_margin is not None:
+            self.add(f"{path}.{'margin' if margin is not None else 'relative_margin'}", "margins apply to guardrails only (role = \"guardrail\")")
+        target = self.number(table, "target", path)
+        if target is not None and kind == "proportion" and not (0 < target < 1):
+            self.add(f"{path}.target", "a proportion's target must be strictly between 0 and 1")
+        description = table.get("description", "")
+        if not isinstance(description, str):
+            self.add(f"{path}.description", "'description' must be a string")
+            description = ""
+        if name is None or kind is None or value is None or (kind == "ratio" and denominator is None):
             return None
-        return Metric(number - 1, name, kind, value, text, sigma, equal_variance, missing)
+        if (cuped or "covariate" in table) and covariate is None:
+            return None
+        return Metric(
+            number - 1, name, kind, value, text, sigma, equal_variance, missing or "zero",
+            denominator=denominator, covariate=covariate, role=role or "secondary", better=better,
+            margin=margin, relative_margin=relative_margin, target=target, description=description,
+        )
+
+    def pre_period(self, table: dict) -> PrePeriod | None:
+        path = "pre_period"
+        self.unknown_keys(table, PRE_PERIOD_KEYS, path)
+        src = self.source(table, path)
+        unit = self.column(table, "unit", path)
+        time = self.column(table, "time", path)
+        dates = []
+        for key in ("start", "end"):
+            raw = table.get(key)
+            if raw is None:
+                self.add(path, f"missing required key {key!r} (an ISO date such as 2026-08-01)")
+                dates.append(None)
+                continue
+            try:
+                dates.append(_dt.date.fromisoformat(str(raw)[:10]) if not isinstance(raw, _dt.date) else raw)
+            except ValueError:
+                self.add(f"{path}.{key}", f"{key!r} must be an ISO date such as 2026-08-01, got {raw!r}")
+                dates.append(None)
+        if dates[0] and dates[1] and dates[0] >= dates[1]:
+            self.add(f"{path}.end", "'end' must be after 'start' (the window is start <= time < end)")
+        where = None
+        if "where" in table:
+            text = self.string(table, "where", path)
+            if text is not None:
+                try:
+                    where = ex.parse_filter(text, "where")
+                except ex.ExpressionProblem as err:
+                    self.add(f"{path}.where", str(err))
+        if src is None or unit is None or time is None or None in dates:
+            return None
+        start, end = (d.date() if isinstance(d, _dt.datetime) else d for d in dates)
+        return PrePeriod(src, unit, time, start.isoformat(), end.isoformat(), where)
 
 
 def load_spec(path: str | Path) -> Experiment:
@@ -292,6 +402,38 @@ def parse_spec(text: str, base_dir: str | Path = ".", file: str | None = None) -
     if control is not None and declared is not None and control not in declared:
         c.add("experiment.control", f"control arm {control!r} is not among the declared arms {list(declared)}{_suggest(control, list(declared))}")
 
+    segments: list = []
+    if "segments" in exp_t:
+        raw = exp_t["segments"]
+        if not isinstance(raw, list) or not raw or len(raw) > 8:
+            c.add("experiment.segments", "'segments' must list 1 to 8 column names of the assignment source")
+        else:
+            for i, text in enumerate(raw):
+                try:
+                    segments.append(ex.parse_column(text, "segments"))
+                except ex.ExpressionProblem as err:
+                    c.add("experiment.segments", f"segments[{i + 1}]: {err}")
+            names = [s_.sql() for s_ in segments]
+            if len(set(names)) != len(names):
+                c.add("experiment.segments", "'segments' lists a column twice")
+    corrections = {"primary": "none", "secondary": "bh", "guardrail": "none", "segment": "bh"}
+    if "correction" in exp_t:
+        raw = exp_t["correction"]
+        if not isinstance(raw, dict):
+            c.add("experiment.correction", "'correction' maps families to methods, e.g. { secondary = \"holm\" }")
+        else:
+            for k, v in raw.items():
+                if k not in CORRECTION_KEYS:
+                    c.add("experiment.correction", f"unknown family {k!r}{_suggest(k, CORRECTION_KEYS)} (allowed: {', '.join(CORRECTION_KEYS)})")
+                elif v not in CORRECTIONS:
+                    c.add("experiment.correction", f"correction for {k!r} must be one of: {', '.join(CORRECTIONS)}, got {v!r}{_suggest(str(v), CORRECTIONS)}")
+                else:
+                    corrections[k] = v
+    power = c.probability(exp_t, "power", "experiment", 0.8)
+
+    pre_t = c.table(doc, "pre_period", required=False)
+    pre_period = c.pre_period(pre_t) if pre_t is not None else None
+
     asg_t = c.table(doc, "assignment", required=True)
     assignment = None
     if asg_t is not None:
@@ -315,7 +457,7 @@ def parse_spec(text: str, base_dir: str | Path = ".", file: str | None = None) -
     else:
         seen: dict[str, int] = {}
         for i, t in enumerate(raw_metrics, start=1):
-            m = c.metric(t, i, per_unit_values)
+            m = c.metric(t, i, per_unit_values, pre_t is not None)
             if m is None:
                 continue
             if m.name in seen:
@@ -323,6 +465,17 @@ def parse_spec(text: str, base_dir: str | Path = ".", file: str | None = None) -
                 continue
             seen[m.name] = i
             metrics.append(m)
+
+    primaries = [m for m in metrics if m.role == "primary"]
+    if len(primaries) > 1:
+        c.add("metric", f"only one metric can be primary; found {', '.join(m.name for m in primaries)}")
+    elif not primaries and metrics and isinstance(raw_metrics, list):
+        explicit = [isinstance(t, dict) and "role" in t for t in raw_metrics]
+        if not explicit[0]:
+            # The first metric is the primary one unless the spec says otherwise.
+            from dataclasses import replace
+
+            metrics[0] = replace(metrics[0], role="primary")
 
     if c.problems:
         raise SpecError(c.problems, file)
@@ -337,5 +490,9 @@ def parse_spec(text: str, base_dir: str | Path = ".", file: str | None = None) -
         weights=weights,
         arms=arms or (tuple(weights) if weights else None),
         sample_ratio_alpha=srm_alpha,
+        segments=tuple(segments),
+        pre_period=pre_period,
+        corrections=corrections,
+        power=power,
         spec_path=Path(file) if file else None,
     )

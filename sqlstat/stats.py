@@ -18,6 +18,11 @@ from typing import Any, Iterable, Literal
 from scipy import special
 
 from .model import (
+    TEST_BINOMIAL_EXACT,
+    TEST_CUPED_WELCH_T,
+    TEST_ONE_SAMPLE_T,
+    TEST_ONE_SAMPLE_Z,
+    TEST_RATIO_DELTA_Z,
     TEST_FISHER_EXACT,
     TEST_STUDENT_T,
     TEST_TWO_PROPORTION_Z,
@@ -48,6 +53,21 @@ class ArmSummary:
 
 
 @dataclass(frozen=True)
+class Guardrail:
+    """A one-sided non-inferiority test: is the treatment no worse than the margin allows?"""
+
+    direction: str  # "higher" or "lower" is better
+    margin: float  # tolerated harm, in metric units or as a share of control (relative)
+    relative: bool
+    statistic: float
+    p_value: float  # one-sided; small means "no worse than the margin"
+    p_value_adjusted: float
+    bound: float  # the one-sided 1 - alpha confidence bound on the harm side
+    held: bool  # non-inferiority shown at alpha (after any adjustment)
+    harm: bool  # the two-sided test found a significant change in the bad direction
+
+
+@dataclass(frozen=True)
 class TestResult:
     """One comparison: a treatment arm against control on one metric (scipy-like fields)."""
 
@@ -58,7 +78,7 @@ class TestResult:
     reason: str
     control: ArmSummary
     treatment: ArmSummary
-    estimate: float  # treatment mean - control mean
+    estimate: float  # treatment - control (CUPED: the covariate-adjusted difference)
     std_error: float
     statistic: float
     statistic_name: str  # "z", "t" or "odds_ratio"
@@ -67,10 +87,45 @@ class TestResult:
     ci_low: float
     ci_high: float
     alpha: float
-    significant: bool
+    significant: bool  # at alpha, judged on the adjusted p-value when one applies
     alternative: str = "two-sided"
     notes: tuple[str, ...] = ()
     data_problem: bool = False  # the data could not support this comparison
+    role: str = "secondary"
+    better: str | None = None  # "higher" or "lower" is good, when the spec says
+    segment: str | None = None  # None for the whole population
+    segment_value: str | None = None
+    difference: float = NAN  # raw treatment - control value, before any adjustment
+    relative_lift: float = NAN  # (treatment - control) / control
+    lift_std_error: float = NAN
+    lift_ci_low: float = NAN
+    lift_ci_high: float = NAN
+    family: str = "secondary"  # multiplicity family this comparison belongs to
+    correction: str = "none"  # "none", "holm" or "bh"
+    p_value_adjusted: float = NAN
+    theta: float | None = None  # CUPED coefficient
+    variance_reduction: float | None = None  # CUPED: 1 - adjusted variance / raw variance
+    guardrail: Guardrail | None = None
+
+
+@dataclass(frozen=True)
+class TargetCheck:
+    """One arm's metric against a fixed target value (one-arm test)."""
+
+    metric: str
+    kind: str
+    arm: str
+    target: float
+    value: float
+    n: int
+    test: str
+    reason: str
+    statistic: float
+    df: float | None
+    alternative: str
+    p_value: float
+    alpha: float
+    significant: bool
 
 
 @dataclass(frozen=True)
@@ -88,6 +143,18 @@ class SampleRatio:
 
 
 @dataclass(frozen=True)
+class Decision:
+    """The readout for one treatment arm, with the reasons behind it."""
+
+    arm: str
+    verdict: str  # one of VERDICTS
+    reasons: tuple[str, ...]
+
+
+VERDICTS = ("adopt", "reject", "inconclusive", "invalid")
+
+
+@dataclass(frozen=True)
 class Analysis:
     """Everything the report shows: arms, the sample-ratio check and every comparison."""
 
@@ -99,10 +166,21 @@ class Analysis:
     sample_ratio: SampleRatio | None
     results: tuple[TestResult, ...]
     notes: tuple[str, ...] = field(default_factory=tuple)
+    targets: tuple[TargetCheck, ...] = ()
+    decisions: tuple[Decision, ...] = ()
+    corrections: dict[str, str] = field(default_factory=dict)
+
+    @property
+    def overall(self) -> tuple[TestResult, ...]:
+        return tuple(r for r in self.results if r.segment is None)
+
+    @property
+    def segmented(self) -> tuple[TestResult, ...]:
+        return tuple(r for r in self.results if r.segment is not None)
 
     @property
     def data_problem(self) -> bool:
-        return any(r.data_problem for r in self.results) or (
+        return any(r.data_problem for r in self.overall) or (
             self.sample_ratio is not None and self.sample_ratio.mismatch
         )
 
@@ -227,6 +305,16 @@ def _f(x: Any) -> float:
 
 def choose_test(metric: Metric, treatment: ArmSummary, control: ArmSummary) -> tuple[str, str]:
     """The test a practitioner would pick for this metric and these counts, and why."""
+    if metric.kind == "ratio":
+        return TEST_RATIO_DELTA_Z, (
+            "ratio of per-unit sums (the unit of analysis differs from the randomisation unit): "
+            "z test with the delta-method standard error, which respects that a unit's events are correlated"
+        )
+    if metric.covariate is not None:
+        return TEST_CUPED_WELCH_T, (
+            "pre-period covariate given: CUPED-adjusted difference (theta pooled over the two arms), "
+            "Welch's t on the adjusted variances; same expected difference, smaller standard error"
+        )
     if metric.kind == "proportion":
         counts = [
             ("treatment", round(treatment.total), treatment.n),
@@ -261,32 +349,44 @@ def choose_test(metric: Metric, treatment: ArmSummary, control: ArmSummary) -> t
 
 def _summary(row: dict, prefix: str = "") -> ArmSummary:
     n = row.get(f"{prefix}n")
+    mean = row.get(f"{prefix}value") if row.get("kind") == "ratio" else row.get(f"{prefix}mean")
     return ArmSummary(
         n=int(n) if _finite(n) else 0,
-        mean=_f(row.get(f"{prefix}mean")),
+        mean=_f(mean),
         variance=_f(row.get(f"{prefix}variance")),
         total=_f(row.get(f"{prefix}total")),
     )
 
 
+T_TESTS = (TEST_WELCH_T, TEST_STUDENT_T, TEST_CUPED_WELCH_T)
+
+
 def compare(metric: Metric, row: dict, alpha: float) -> TestResult:
-    """Turn one treatment row of the query into a TestResult."""
+    """Turn one treatment row of the query into a TestResult (before multiplicity adjustment)."""
     treatment, control = _summary(row), _summary(row, "control_")
     test, reason = choose_test(metric, treatment, control) if treatment.n and control.n else (metric.planned_test, "")
     notes: list[str] = []
     problem = False
-    estimate = _f(row.get("difference"))
+    estimate = _f(row.get("estimate"))
     se = _f(row.get("std_error"))
     statistic = _f(row.get("statistic"))
     df = row.get("df")
     df = float(df) if _finite(df) else None
-    stat_name = "t" if test in (TEST_WELCH_T, TEST_STUDENT_T) else "z"
+    stat_name = "t" if test in T_TESTS else "z"
+    segment = row.get("segment")
+    base = dict(
+        metric=metric.name, kind=metric.kind, arm=str(row["arm"]), role=metric.role, better=metric.better,
+        segment=None if segment is None else str(segment),
+        segment_value=None if segment is None else str(row.get("segment_value")),
+    )
 
     if treatment.n == 0 or control.n == 0:
         empty = "treatment" if treatment.n == 0 else "control"
         notes.append(f"the {empty} arm has no units with a value for this metric: no test is possible")
-        return TestResult(metric.name, metric.kind, str(row["arm"]), test, reason or "no data", control, treatment,
-                          NAN, NAN, NAN, stat_name, None, NAN, NAN, NAN, alpha, False, notes=tuple(notes), data_problem=True)
+        return TestResult(**base, test=test, reason=reason or "no data", control=control, treatment=treatment,
+                          estimate=NAN, std_error=NAN, statistic=NAN, statistic_name=stat_name, df=None,
+                          p_value=NAN, ci_low=NAN, ci_high=NAN, alpha=alpha, significant=False,
+                          notes=tuple(notes), data_problem=True)
 
     if metric.kind == "proportion" and (row.get("invalid") or 0) > 0:
         notes.append(
@@ -302,7 +402,7 @@ def compare(metric: Metric, row: dict, alpha: float) -> TestResult:
         notes.append("interval: Newcombe's hybrid score interval (valid with few events)")
         stat_name, df = "odds_ratio", None
     else:
-        if test in (TEST_WELCH_T, TEST_STUDENT_T):
+        if test in T_TESTS:
             if min(treatment.n, control.n) < 2:
                 notes.append("an arm has fewer than 2 units: its variance, and so the t test, is undefined")
                 problem = True
@@ -317,20 +417,233 @@ def compare(metric: Metric, row: dict, alpha: float) -> TestResult:
                     f"an arm has fewer than {MIN_UNITS_FOR_CLT} units (common-practice threshold): "
                     f"the t test then assumes the metric is roughly normally distributed"
                 )
-        elif not _finite(statistic):
-            notes.append("the standard error is zero or undefined: no test is possible")
-            problem = True
+        else:
+            if not _finite(statistic):
+                notes.append("the standard error is zero or undefined: no test is possible")
+                problem = True
+            if test == TEST_RATIO_DELTA_Z and min(treatment.n, control.n) < MIN_UNITS_FOR_CLT:
+                notes.append(
+                    f"an arm has fewer than {MIN_UNITS_FOR_CLT} units (common-practice threshold): "
+                    f"the delta method's normal approximation may be poor"
+                )
         p = p_value(statistic, df if stat_name == "t" else None)
         lo, hi = wald_interval(estimate, se, df if stat_name == "t" else None, alpha)
         if test == TEST_TWO_PROPORTION_Z:
             notes.append("interval: Wald interval with unpooled standard error")
-    significant = bool(_finite(p) and p < alpha)
+
+    lift, lift_se = _f(row.get("relative_lift")), _f(row.get("lift_std_error"))
+    lift_lo, lift_hi = wald_interval(lift, lift_se, None, alpha)
+    theta = row.get("theta") if _finite(row.get("theta")) else None
+    reduction = row.get("variance_reduction") if _finite(row.get("variance_reduction")) else None
+    if test == TEST_CUPED_WELCH_T and reduction is not None:
+        reason += f"; theta = {theta:.4g}, variance reduced by {reduction:.1%}"
+        if reduction < 0.01:
+            notes.append("the pre-period covariate barely predicts the metric: CUPED gained little")
+
+    guardrail = None
+    if metric.role == "guardrail" and metric.better is not None:
+        g_stat = _f(row.get("margin_statistic"))
+        g_df = df if stat_name == "t" else None
+        g_p = p_value(g_stat, g_df, "greater")
+        relative = metric.relative_margin is not None
+        margin = metric.relative_margin if relative else metric.margin
+        crit = critical_value(2 * alpha, g_df)  # one-sided 1 - alpha
+        point, point_se = (lift, lift_se) if relative else (estimate, se)
+        bound = point - crit * point_se if metric.better == "higher" else point + crit * point_se
+        harm = bool(_finite(p) and p < alpha and ((estimate < 0) if metric.better == "higher" else (estimate > 0)))
+        guardrail = Guardrail(metric.better, float(margin), relative, g_stat, g_p, g_p, bound,
+                              bool(_finite(g_p) and g_p < alpha), harm)
+        if test == TEST_FISHER_EXACT:
+            notes.append("guardrail margin test uses the normal approximation, which is rough with this few events")
+
     return TestResult(
-        metric=metric.name, kind=metric.kind, arm=str(row["arm"]), test=test, reason=reason,
-        control=control, treatment=treatment, estimate=estimate, std_error=se,
-        statistic=statistic, statistic_name=stat_name, df=df, p_value=p, ci_low=lo, ci_high=hi,
-        alpha=alpha, significant=significant, notes=tuple(notes), data_problem=problem,
+        **base, test=test, reason=reason, control=control, treatment=treatment, estimate=estimate,
+        std_error=se, statistic=statistic, statistic_name=stat_name, df=df, p_value=p, ci_low=lo,
+        ci_high=hi, alpha=alpha, significant=bool(_finite(p) and p < alpha), notes=tuple(notes),
+        data_problem=problem, difference=_f(row.get("difference")), relative_lift=lift,
+        lift_std_error=lift_se, lift_ci_low=lift_lo, lift_ci_high=lift_hi, p_value_adjusted=p,
+        theta=theta, variance_reduction=reduction, guardrail=guardrail,
     )
+
+
+# --------------------------------------------------------------------------- one-arm checks
+
+
+def target_check(metric: Metric, row: dict, alpha: float) -> TargetCheck | None:
+    """Compare one arm's value with the metric's fixed target.
+
+    Proportions: exact binomial test (Clopper and Pearson's setting; scipy.stats.binomtest)
+    when n*p0 or n*(1-p0) is below 10 (common practice), else the one-sample z test with
+    the standard error implied by the target. Means: one-sample t test (Student, 1908).
+    Ratios: one-sample z with the delta-method standard error. The alternative follows
+    ``better``: "higher" asks whether the arm is above the target, "lower" below it;
+    without a direction the test is two-sided.
+    """
+    target = metric.target
+    n = int(row["n"]) if _finite(row.get("n")) else 0
+    if target is None or n == 0:
+        return None
+    alternative = {"higher": "greater", "lower": "less"}.get(metric.better or "", "two-sided")
+    value = _f(row.get("value"))
+    stat = _f(row.get("target_statistic"))
+    df = float(row["target_df"]) if _finite(row.get("target_df")) else None
+    if metric.kind == "proportion":
+        successes = round(_f(row.get("total")))
+        if min(n * target, n * (1 - target)) < MIN_SUCCESSES_FAILURES:
+            from scipy import stats as sps
+
+            res = sps.binomtest(successes, n, target, alternative=alternative)
+            test, reason = TEST_BINOMIAL_EXACT, (
+                f"proportion with n*target or n*(1-target) below {MIN_SUCCESSES_FAILURES} "
+                f"(common practice): exact binomial test"
+            )
+            p, stat, df = float(res.pvalue), float(successes), None
+        else:
+            test, reason = TEST_ONE_SAMPLE_Z, "proportion with enough units: one-sample z test against the target rate"
+            p = p_value(stat, None, alternative)
+    elif metric.kind == "mean":
+        test, reason = TEST_ONE_SAMPLE_T, "mean with variance estimated from the data: one-sample t test"
+        p = p_value(stat, df, alternative)
+    else:
+        test, reason = TEST_ONE_SAMPLE_Z, "ratio: one-sample z test with the delta-method standard error"
+        p = p_value(stat, None, alternative)
+    return TargetCheck(metric.name, metric.kind, str(row["arm"]), float(target), value, n, test, reason,
+                       stat, df, alternative, p, alpha, bool(_finite(p) and p < alpha))
+
+
+# --------------------------------------------------------------------------- multiplicity
+
+
+def adjust_p_values(p_values: list[float], method: str) -> list[float]:
+    """Adjusted p-values for a family of tests.
+
+    holm: Holm's (1979) step-down procedure, controls the family-wise error rate.
+    bh: Benjamini and Hochberg's (1995) step-up procedure, controls the false discovery rate.
+    none: unchanged. NaN p-values are left out of the family and stay NaN.
+    """
+    if method == "none":
+        return list(p_values)
+    idx = [i for i, p in enumerate(p_values) if _finite(p)]
+    m = len(idx)
+    out = [NAN] * len(p_values)
+    if m == 0:
+        return out
+    order = sorted(idx, key=lambda i: p_values[i])
+    if method == "holm":
+        running = 0.0
+        for rank, i in enumerate(order):
+            running = max(running, min(1.0, (m - rank) * p_values[i]))
+            out[i] = running
+    elif method == "bh":
+        running = 1.0
+        for rank in range(m - 1, -1, -1):
+            i = order[rank]
+            running = min(running, m * p_values[i] / (rank + 1))
+            out[i] = min(1.0, running)
+    else:
+        raise ValueError(f"unknown correction {method!r}; use none, holm or bh")
+    return out
+
+
+def _family(r: TestResult) -> str:
+    return "segment" if r.segment is not None else r.role
+
+
+def apply_corrections(results: list[TestResult], corrections: dict[str, str]) -> list[TestResult]:
+    """Adjust p-values within each family (primary, secondary, guardrail, segment)."""
+    from dataclasses import replace
+
+    out = list(results)
+    for family in ("primary", "secondary", "guardrail", "segment"):
+        members = [i for i, r in enumerate(out) if _family(r) == family]
+        if not members:
+            continue
+        method = corrections.get(family, "none")
+        if family == "guardrail":
+            # Guardrails are judged on their one-sided non-inferiority p-values.
+            ps = [out[i].guardrail.p_value if out[i].guardrail else NAN for i in members]
+            adj = adjust_p_values(ps, method)
+            for i, a in zip(members, adj):
+                g = out[i].guardrail
+                if g is not None:
+                    g = replace(g, p_value_adjusted=a, held=bool(_finite(a) and a < out[i].alpha))
+                out[i] = replace(out[i], family=family, correction=method, guardrail=g)
+            continue
+        adj = adjust_p_values([out[i].p_value for i in members], method)
+        for i, a in zip(members, adj):
+            out[i] = replace(out[i], family=family, correction=method, p_value_adjusted=a,
+                             significant=bool(_finite(a) and a < out[i].alpha))
+    return out
+
+
+# --------------------------------------------------------------------------- decisions
+
+
+def decide(arms: list[str], results: list[TestResult], srm: SampleRatio | None) -> list[Decision]:
+    """One verdict per treatment arm from the sample-ratio gate, the primary metric and guardrails.
+
+    invalid: the sample-ratio check failed, so no comparison can be trusted.
+    reject: the primary metric got significantly worse, or a guardrail showed significant harm.
+    adopt: the primary metric improved significantly and every guardrail held its margin.
+    inconclusive: anything else (no detectable effect, or a guardrail not yet shown safe).
+    """
+    decisions = []
+    for arm in arms:
+        reasons: list[str] = []
+        if srm is not None and srm.mismatch:
+            decisions.append(Decision(arm, "invalid", (
+                f"sample-ratio mismatch (p = {srm.p_value:.2g}): the split of units differs from the plan, "
+                "so assignment or logging is broken; find the cause before reading any result",)))
+            continue
+        mine = [r for r in results if r.arm == arm and r.segment is None]
+        primary = [r for r in mine if r.role == "primary"]
+        guards = [r for r in mine if r.guardrail is not None]
+        harmed = [r for r in guards if r.guardrail.harm]
+        unproven = [r for r in guards if not r.guardrail.held and not r.guardrail.harm]
+        verdict = "inconclusive"
+        for r in harmed:
+            reasons.append(f"guardrail {r.metric} got significantly worse (estimate {r.estimate:+.4g}, p = {r.p_value:.2g})")
+        for r in unproven:
+            reasons.append(
+                f"guardrail {r.metric} is not yet shown within its margin "
+                f"(one-sided p = {r.guardrail.p_value_adjusted:.2g})"
+            )
+        for r in guards:
+            if r.guardrail.held:
+                reasons.append(f"guardrail {r.metric} held (no worse than its margin, one-sided p = {r.guardrail.p_value_adjusted:.2g})")
+        if harmed:
+            verdict = "reject"
+        for r in primary:
+            p = r.p_value_adjusted
+            if not _finite(p):
+                reasons.append(f"primary metric {r.metric}: no test was possible")
+                continue
+            better = r.better
+            if not r.significant:
+                reasons.append(
+                    f"primary metric {r.metric}: no significant difference (p = {p:.2g}; interval "
+                    f"[{r.ci_low:.4g}, {r.ci_high:.4g}] still includes 0); check power before concluding there is no effect"
+                )
+                continue
+            if better is None:
+                reasons.append(f"primary metric {r.metric} differs (p = {p:.2g}) but no 'better' direction is declared")
+                continue
+            improved = (r.estimate > 0) == (better == "higher")
+            reasons.append(
+                f"primary metric {r.metric} {'improved' if improved else 'got worse'} significantly "
+                f"(estimate {r.estimate:+.4g}, p = {p:.2g})"
+            )
+            if not improved:
+                verdict = "reject"
+            elif verdict != "reject" and not unproven:
+                verdict = "adopt"
+        if not primary:
+            reasons.append("no primary metric: declare one with role = \"primary\" for a verdict")
+        decisions.append(Decision(arm, verdict, tuple(reasons)))
+    return decisions
+
+
+# --------------------------------------------------------------------------- the whole analysis
 
 
 def analyse(experiment: Experiment, rows: Iterable[dict]) -> Analysis:
@@ -339,7 +652,8 @@ def analyse(experiment: Experiment, rows: Iterable[dict]) -> Analysis:
     notes: list[str] = []
     units: dict[str, int] = {}
     excluded = 0
-    for r in rows:
+    overall_rows = [r for r in rows if r.get("segment") is None]
+    for r in overall_rows:
         if r.get("arm") is None:
             continue
         units.setdefault(str(r["arm"]), int(r["units"]) if _finite(r.get("units")) else 0)
@@ -367,14 +681,27 @@ def analyse(experiment: Experiment, rows: Iterable[dict]) -> Analysis:
         )
     srm_units = {a: units.get(a, 0) for a in (declared or units)}
     srm = sample_ratio_test(srm_units, experiment.weights, experiment.sample_ratio_alpha)
-    results = []
     by_index = {m.index: m for m in experiment.metrics}
+    results, targets = [], []
     for r in rows:
-        if r.get("arm") is None or int(r.get("is_control") or 0) == 1:
+        if r.get("arm") is None:
             continue
         metric = by_index[int(r["metric_index"])]
+        if r.get("segment") is None and metric.target is not None:
+            check = target_check(metric, r, experiment.alpha)
+            if check is not None:
+                targets.append(check)
+        if int(r.get("is_control") or 0) == 1:
+            continue
         results.append(compare(metric, r, experiment.alpha))
+    results = apply_corrections(results, experiment.corrections)
+    if any(r.segment is not None for r in results):
+        notes.append(
+            "segment results are exploratory: many slices make chance differences likely, so their p-values "
+            f"are adjusted ({experiment.corrections.get('segment', 'none')}) and they do not enter the verdict"
+        )
     arm_order = [experiment.control] + sorted(a for a in units if a != experiment.control)
+    decisions = decide(arm_order[1:], results, srm)
     return Analysis(
         experiment=experiment.name,
         control=experiment.control,
@@ -384,4 +711,7 @@ def analyse(experiment: Experiment, rows: Iterable[dict]) -> Analysis:
         sample_ratio=srm,
         results=tuple(results),
         notes=tuple(notes),
+        targets=tuple(targets),
+        decisions=tuple(decisions),
+        corrections=dict(experiment.corrections),
     )

@@ -32,7 +32,9 @@ def test_demo_runs_and_shows_every_part_of_the_readout():
     out = res.output
     for part in ("Units per arm", "Sample-ratio check", "any_late_return", "text_nudge", "email_nudge",
                  "welch_t", "two_proportion_z", "fisher_exact", "95% interval", "p-value",
-                 "Why these tests", "Multiplicity", "not the chance that the treatment works"):
+                 "Why these tests", "Multiple comparisons", "not the chance that the treatment works",
+                 "Verdict per treatment arm", "Guardrails", "ratio_delta_z", "cuped_welch_t",
+                 "Checks against a fixed target", "Segments (exploratory"):
         assert part in out, part
 
 
@@ -49,16 +51,19 @@ def test_run_json_follows_the_contract():
     assert set(r["control"]) == {"n", "mean", "variance"}
     assert isinstance(r["control"]["n"], int) and isinstance(r["significant"], bool)
     assert r["estimate"] == pytest.approx(r["treatment"]["mean"] - r["control"]["mean"], rel=1e-12)
-    assert len(doc["results"]) == 4 * 2  # four metrics, two treatment arms
+    overall = [r for r in doc["results"] if r["segment"] is None]
+    assert len(overall) == 5 * 2  # five metrics, two treatment arms
+    assert {d["arm"] for d in doc["decisions"]} == {"text_nudge", "email_nudge"}
 
 
 def test_run_csv_has_one_row_per_metric_and_arm():
     res = invoke("run", DEMO, "--format", "csv")
     assert res.exit_code == 0, res.output
-    rows = list(csv.DictReader(io.StringIO(res.output)))
-    assert len(rows) == 8
+    rows = [r for r in csv.DictReader(io.StringIO(res.output)) if not r["segment"]]
+    assert len(rows) == 10
     assert {(r["metric"], r["arm"]) for r in rows} == {
-        (m, a) for m in ("any_late_return", "loans", "late_fees", "damage_report") for a in ("text_nudge", "email_nudge")
+        (m, a) for m in ("any_late_return", "loans", "late_fees", "fee_per_loan", "damage_report")
+        for a in ("text_nudge", "email_nudge")
     }
 
 
