@@ -11,7 +11,7 @@ Public API:
 Reports: sqlstat.report.to_text / to_json / to_csv.
 """
 
-from .api import analyse, run, sql
+from .api import analyse, baseline_sql, plan, run, sql
 from .dialects import DIALECTS
 from .errors import CompileError, DataProblem, EngineError, SpecError, SqlstatError, UsageError
 from .model import Experiment, Metric
@@ -30,6 +30,8 @@ __all__ = [
     "SqlstatError",
     "UsageError",
     "analyse",
+    "baseline_sql",
+    "plan",
     "load_spec",
     "parse_spec",
     "run",

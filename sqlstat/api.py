@@ -72,3 +72,47 @@ def run(
         if owned:
             engine.close()
     return analyse(experiment, rows)
+
+
+def baseline_sql(spec: str | Path | Experiment, dialect: str = "duckdb", *, pretty: bool = True) -> str:
+    """The planning query: per-metric baseline mean and variance over the pre-period."""
+    from .compile import compile_baseline
+
+    return compile_baseline(_experiment(spec), dialect, pretty=pretty)
+
+
+def plan(
+    spec: str | Path | Experiment,
+    *,
+    mde: float | None = None,
+    relative: bool = False,
+    units: int | None = None,
+    power: float | None = None,
+    db: str | None = None,
+    engine: "Engine | None" = None,
+):
+    """Read each metric's baseline from the pre-period and size the experiment.
+
+    Give ``mde`` (absolute, or relative with ``relative=True``) for units per arm and days,
+    or ``units`` (per arm) for the minimum detectable effect.
+    """
+    from . import engines
+    from .compile import compile_baseline
+    from .errors import UsageError
+    from .power import plan as _plan
+
+    if (mde is None) == (units is None):
+        raise UsageError("give exactly one of --mde (effect to detect) or --units (units per arm available)")
+    if mde is not None and not mde > 0:
+        raise UsageError("--mde must be a positive number")
+    if units is not None and units < 3:
+        raise UsageError("--units must be at least 3 per arm")
+    experiment = _experiment(spec)
+    owned = engine is None
+    engine = engine or engines.connect(db)
+    try:
+        rows = engine.run(compile_baseline(experiment, engine.dialect))
+    finally:
+        if owned:
+            engine.close()
+    return _plan(experiment, rows, mde=mde, relative=relative, units=units, power=power)

@@ -113,6 +113,28 @@ def check(spec: Path = SPEC, debug: bool = DEBUG) -> None:
 
 
 @app.command()
+def plan(
+    spec: Path = SPEC,
+    mde: Optional[float] = typer.Option(None, "--mde", help="Effect to detect, in metric units (or a share with --relative)."),
+    relative: bool = typer.Option(False, "--relative", help="Read --mde as a share of the baseline, e.g. 0.05 for 5%."),
+    units: Optional[int] = typer.Option(None, "--units", help="Units per arm available: print the minimum detectable effect."),
+    power: Optional[float] = typer.Option(None, "--power", help="Chance of detecting the effect if it is real (default: the spec's, 0.8)."),
+    db: Optional[str] = typer.Option(None, "--db", help="Database URL (as for `run`)."),
+    fmt: Format = typer.Option(Format.table, "--format", "-f", help="table or json."),
+    debug: bool = DEBUG,
+) -> None:
+    """Size an experiment before launch from each metric's pre-period baseline."""
+    try:
+        from . import api
+        from .report import plan_report
+
+        result = api.plan(spec, mde=mde, relative=relative, units=units, power=power, db=db)
+        sys.stdout.write(plan_report(result, "json" if fmt.value == "json" else "table"))
+    except Exception as err:  # noqa: BLE001
+        _fail(err, debug)
+
+
+@app.command()
 def dialects() -> None:
     """List the SQL dialects sqlstat emits and how each is covered by the tests."""
     from .dialects import DIALECTS

@@ -183,13 +183,35 @@ def render_canonical(experiment: Experiment, dialect: str | Dialect = "duckdb") 
     return _environment().get_template("experiment.sql.j2").render(**context)
 
 
-def compile_sql(experiment: Experiment, dialect: str = "duckdb", *, pretty: bool = True) -> str:
-    """Compile an experiment into one read-only SELECT in ``dialect``.
+def render_baseline(experiment: Experiment, dialect: str | Dialect = "duckdb") -> str:
+    """The planning baseline query in canonical DuckDB SQL (needs a [pre_period] table)."""
+    d = dialect if isinstance(dialect, Dialect) else get_dialect(dialect)
+    if experiment.pre_period is None:
+        raise CompileError(
+            "planning needs a [pre_period] table (source, unit, time, start, end) to read each "
+            "metric's baseline from; or give the baseline with --baseline-mean/--baseline-sd"
+        )
+    measures, pairs, metrics = [], [], []
+    for m in experiment.metrics:
+        y = str(len(measures))
+        measures.append({"key": y, "sql": _value_sql(m.value)})
+        x = None
+        if m.denominator is not None:
+            x = str(len(measures))
+            measures.append({"key": x, "sql": _value_sql(m.denominator)})
+            pairs.append({"a": y, "b": x})
+        metrics.append({"index": m.index, "name": _literal(m.name), "kind_literal": _literal(m.kind), "y": y, "x": x})
+    context = {
+        "pre_period": _pre_period(experiment, d),
+        "measures": measures,
+        "pairs": pairs,
+        "metrics": metrics,
+        "caps": {"variance": d.variance, "covariance": d.covariance},
+    }
+    return _environment().get_template("baseline.sql.j2").render(**context)
 
-    The same experiment and dialect always give byte-identical text.
-    """
-    d = get_dialect(dialect)
-    canonical = render_canonical(experiment, d)
+
+def _finish(canonical: str, d: Dialect, pretty: bool) -> str:
     try:
         statements = [s for s in sqlglot.parse(canonical, read=CANONICAL) if s is not None]
     except sqlglot.errors.ParseError as err:  # a template bug, not a user error
@@ -197,3 +219,18 @@ def compile_sql(experiment: Experiment, dialect: str = "duckdb", *, pretty: bool
     if len(statements) != 1 or not isinstance(statements[0], exp.Select):
         raise CompileError("internal error: the rendered query is not exactly one SELECT")
     return finish(statements[0], d, pretty=pretty) + "\n"
+
+
+def compile_baseline(experiment: Experiment, dialect: str = "duckdb", *, pretty: bool = True) -> str:
+    """Compile the planning baseline query (one read-only SELECT over the pre-period)."""
+    d = get_dialect(dialect)
+    return _finish(render_baseline(experiment, d), d, pretty)
+
+
+def compile_sql(experiment: Experiment, dialect: str = "duckdb", *, pretty: bool = True) -> str:
+    """Compile an experiment into one read-only SELECT in ``dialect``.
+
+    The same experiment and dialect always give byte-identical text.
+    """
+    d = get_dialect(dialect)
+    return _finish(render_canonical(experiment, d), d, pretty)

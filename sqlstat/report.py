@@ -330,3 +330,54 @@ def plan_text(experiment: Any) -> str:
     out.append("Sample-ratio check: chi-square goodness of fit of units per arm, mismatch if "
                f"p < {e.sample_ratio_alpha:g}")
     return "\n".join(out) + "\n"
+
+
+def plan_dict(p: Any) -> dict[str, Any]:
+    return {
+        "experiment": p.experiment,
+        "alpha": p.alpha,
+        "power": p.power,
+        "arms": p.arms,
+        "window_days": p.window_days,
+        "daily_units": _num(p.daily_units),
+        "metrics": [
+            {"metric": r.metric, "kind": r.kind, "baseline": _num(r.baseline), "sd": _num(r.sd),
+             "units_seen": r.units_seen, "mde": _num(r.mde), "mde_relative": _num(r.mde_relative),
+             "units_per_arm": None if not math.isfinite(r.units_per_arm) else math.ceil(r.units_per_arm),
+             "total_units": None if not math.isfinite(r.total_units) else math.ceil(r.total_units),
+             "days": None if not math.isfinite(r.days) else math.ceil(r.days), "method": r.method,
+             "notes": list(r.notes)}
+            for r in p.rows
+        ],
+    }
+
+
+def plan_report(p: Any, fmt: str = "table") -> str:
+    """What ``sqlstat plan`` prints."""
+    if fmt == "json":
+        return json.dumps(plan_dict(p), indent=2, allow_nan=False) + "\n"
+    out = [
+        f"Plan for {p.experiment}: two-sided alpha = {p.alpha:g}, power = {p.power:g}, {p.arms} arms, equal split",
+        f"Baseline from the pre-period ({p.window_days} days): {_fmt(p.daily_units)} units seen per day",
+        "",
+    ]
+    rows = []
+    for r in p.rows:
+        units = "-" if not math.isfinite(r.units_per_arm) else f"{math.ceil(r.units_per_arm):,}"
+        total = "-" if not math.isfinite(r.total_units) else f"{math.ceil(r.total_units):,}"
+        days = "-" if not math.isfinite(r.days) else f"{math.ceil(r.days):,}"
+        rows.append([r.metric, r.kind, _fmt(r.baseline), _fmt(r.sd), _fmt(r.mde), _pct(r.mde_relative), units,
+                     total, days, r.method])
+    out.append(_table(["metric", "kind", "baseline", "sd per unit", "effect (abs)", "effect (rel)",
+                       "units per arm", "total units", "days", "method"], rows))
+    for r in p.rows:
+        for n in r.notes:
+            out.append(f"Note: {r.metric}: {n}")
+    out.append("")
+    out.append(
+        "Days assume every unit seen in the pre-period window arrives at the same daily rate; returning units "
+        "make real traffic grow more slowly, so treat the days as a lower bound. Decide the sample size before "
+        "launch and read the result once it is reached: stopping early when a p-value dips below alpha inflates "
+        "false positives."
+    )
+    return "\n".join(out) + "\n"
