@@ -179,6 +179,9 @@ def render_canonical(experiment: Experiment, dialect: str | Dialect = "duckdb") 
         ],
         "control": _literal(experiment.control),
         "caps": {"variance": d.variance, "covariance": d.covariance},
+        "always_valid": experiment.always_valid,
+        "mixing_sd": _number(experiment.mixing_sd),
+        "alpha": _number(experiment.alpha),
     }
     return _environment().get_template("experiment.sql.j2").render(**context)
 

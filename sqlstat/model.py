@@ -133,6 +133,8 @@ class Experiment:
         default_factory=lambda: {"primary": "none", "secondary": "bh", "guardrail": "none", "segment": "bh"}
     )
     power: float = 0.8  # planning default
+    always_valid: bool = False  # add always-valid p-values and confidence sequences (mSPRT)
+    mixing_sd: float = 0.05  # mSPRT mixing standard deviation, as a share of the control value
     spec_path: Path | None = None
     notes: tuple[str, ...] = field(default_factory=tuple)
 

@@ -75,6 +75,10 @@ def result_dict(r: "TestResult") -> dict[str, Any]:
         "significant": r.significant,
         "cuped": None if r.theta is None else {"theta": _num(r.theta), "variance_reduction": _num(r.variance_reduction)},
         "guardrail": _guardrail_dict(r.guardrail),
+        "always_valid": None if r.always_valid_p_value is None else {
+            "p_value": _num(r.always_valid_p_value), "sequence_low": _num(r.sequence_low),
+            "sequence_high": _num(r.sequence_high),
+        },
         "notes": list(r.notes),
     }
 
@@ -224,6 +228,15 @@ def to_text(a: "Analysis") -> str:
     out.append(f"Results (estimate = treatment - control; lift = estimate / control; {conf} two-sided intervals):")
     headers, rows = _result_rows(list(a.overall), conf)
     out.append(_table(headers, rows))
+    monitored = [r for r in a.overall if r.always_valid_p_value is not None]
+    if monitored:
+        out.append("")
+        out.append("Always-valid results (mSPRT; safe to read at every look, unlike the p-values above):")
+        out.append(_table(
+            ["metric", "arm", "estimate", "always-valid p", f"{conf} confidence sequence"],
+            [[r.metric, r.arm, _fmt(r.estimate), _p(r.always_valid_p_value),
+              f"[{_fmt(r.sequence_low)}, {_fmt(r.sequence_high)}]"] for r in monitored],
+        ))
     guards = [r for r in a.overall if r.guardrail is not None]
     if guards:
         out.append("")

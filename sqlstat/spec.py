@@ -22,7 +22,7 @@ from .model import (
 
 EXPERIMENT_KEYS = (
     "name", "control", "alpha", "weights", "arms", "sample_ratio_alpha", "segments", "correction",
-    "power", "description",
+    "power", "always_valid", "mixing_sd", "description",
 )
 ASSIGNMENT_KEYS = ("source", "unit", "arm", "per_unit", "where")
 EVENTS_KEYS = ("source", "unit", "per_unit", "where")
@@ -430,6 +430,10 @@ def parse_spec(text: str, base_dir: str | Path = ".", file: str | None = None) -
                 else:
                     corrections[k] = v
     power = c.probability(exp_t, "power", "experiment", 0.8)
+    always_valid = c.boolean(exp_t, "always_valid", "experiment")
+    mixing_sd = c.number(exp_t, "mixing_sd", "experiment", positive=True)
+    if mixing_sd is not None and not always_valid:
+        c.add("experiment.mixing_sd", "'mixing_sd' tunes always-valid results; set always_valid = true too")
 
     pre_t = c.table(doc, "pre_period", required=False)
     pre_period = c.pre_period(pre_t) if pre_t is not None else None
@@ -494,5 +498,7 @@ def parse_spec(text: str, base_dir: str | Path = ".", file: str | None = None) -
         pre_period=pre_period,
         corrections=corrections,
         power=power,
+        always_valid=always_valid,
+        mixing_sd=mixing_sd if mixing_sd is not None else 0.05,
         spec_path=Path(file) if file else None,
     )

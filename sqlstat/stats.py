@@ -106,6 +106,9 @@ class TestResult:
     theta: float | None = None  # CUPED coefficient
     variance_reduction: float | None = None  # CUPED: 1 - adjusted variance / raw variance
     guardrail: Guardrail | None = None
+    always_valid_p_value: float | None = None  # mSPRT, valid at every look
+    sequence_low: float | None = None  # always-valid confidence sequence for the estimate
+    sequence_high: float | None = None
 
 
 @dataclass(frozen=True)
@@ -466,6 +469,34 @@ def compare(metric: Metric, row: dict, alpha: float) -> TestResult:
     )
 
 
+# --------------------------------------------------------------------------- always-valid inference
+
+
+def msprt(estimate: float, std_error: float, mixing_sd: float, alpha: float) -> tuple[float, float, float]:
+    """Always-valid p-value and confidence sequence of the mixture SPRT with a normal mixture.
+
+    Johari, Koomen, Pekelis and Walsh (2017, "Peeking at A/B tests", KDD; 2022, Operations
+    Research). With V = std_error^2 and the effect's mixing distribution N(0, tau^2):
+    Lambda = sqrt(V / (V + tau^2)) exp(tau^2 estimate^2 / (2 V (V + tau^2))); the p-value
+    min(1, 1/Lambda) may be read at any time without inflating false positives (take the
+    running minimum over looks), and {theta: Lambda(theta) < 1/alpha} is the confidence
+    sequence estimate -/+ sqrt(V (V + tau^2) / tau^2 (2 ln(1/alpha) + ln((V + tau^2) / V))).
+
+    Args:
+        estimate: the difference, treatment - control.
+        std_error: its standard error at this look.
+        mixing_sd: tau, the standard deviation of plausible effects (same units as estimate).
+        alpha: the error rate the sequence is built for.
+    """
+    if not (_finite(estimate) and _finite(std_error) and std_error > 0 and mixing_sd > 0):
+        return NAN, NAN, NAN
+    v, t2 = std_error * std_error, mixing_sd * mixing_sd
+    log_lr = 0.5 * math.log(v / (v + t2)) + t2 * estimate * estimate / (2 * v * (v + t2))
+    p = 1.0 if log_lr <= 0 else math.exp(-log_lr)
+    half = math.sqrt(v * (v + t2) / t2 * (2 * math.log(1 / alpha) + math.log((v + t2) / v)))
+    return p, estimate - half, estimate + half
+
+
 # --------------------------------------------------------------------------- one-arm checks
 
 
@@ -693,7 +724,14 @@ def analyse(experiment: Experiment, rows: Iterable[dict]) -> Analysis:
                 targets.append(check)
         if int(r.get("is_control") or 0) == 1:
             continue
-        results.append(compare(metric, r, experiment.alpha))
+        result = compare(metric, r, experiment.alpha)
+        if experiment.always_valid:
+            from dataclasses import replace
+
+            tau = experiment.mixing_sd * abs(_f(r.get("control_value")))
+            p_av, lo_av, hi_av = msprt(result.estimate, result.std_error, tau, experiment.alpha)
+            result = replace(result, always_valid_p_value=p_av, sequence_low=lo_av, sequence_high=hi_av)
+        results.append(result)
     results = apply_corrections(results, experiment.corrections)
     if any(r.segment is not None for r in results):
         notes.append(
