@@ -23,9 +23,30 @@ def _experiment(spec: str | Path | Experiment) -> Experiment:
     return spec if isinstance(spec, Experiment) else load_spec(spec)
 
 
-def sql(spec: str | Path | Experiment, dialect: str = "duckdb", *, pretty: bool = True) -> str:
-    """The experiment's one read-only SELECT, in ``dialect`` (default DuckDB)."""
-    return compile_sql(_experiment(spec), dialect, pretty=pretty)
+def sql(spec: str | Path | Experiment, dialect: str = "duckdb", *, pretty: bool = True, view: str | None = None) -> str:
+    """The experiment's one read-only SELECT, in ``dialect`` (default DuckDB).
+
+    With ``view``, wrapped as a CREATE OR REPLACE VIEW statement of that name.
+    """
+    return compile_sql(_experiment(spec), dialect, pretty=pretty, view=view)
+
+
+def sql_folder(spec: str | Path | Experiment, folder: str | Path, *, view: str | None = None,
+               force: bool = False) -> tuple[list[Path], dict[str, str]]:
+    """Write the query for every dialect to ``folder`` as <experiment>.<dialect>.sql.
+
+    Returns the files written and, per dialect skipped, why (e.g. file sources outside DuckDB).
+    """
+    from .compile import compile_all
+    from .files import write_atomic
+
+    experiment = _experiment(spec)
+    target = Path(folder)
+    target.mkdir(parents=True, exist_ok=True)
+    done, skipped = compile_all(experiment, view=view)
+    stem = "".join(c if c.isalnum() or c in "-_" else "_" for c in experiment.name)
+    written = [write_atomic(target / f"{stem}.{d}.sql", text, kinds=(".sql",), force=force) for d, text in done.items()]
+    return written, skipped
 
 
 def analyse(spec: str | Path | Experiment, rows: Iterable[dict[str, Any]]) -> "Analysis":

@@ -88,14 +88,27 @@ def sql(
     spec: Path = SPEC,
     dialect: str = typer.Option("duckdb", "--dialect", "-d", help="Target SQL dialect (see `sqlstat dialects`)."),
     output: Optional[Path] = typer.Option(None, "--output", "-o", help="Write the SQL to this file (atomically)."),
+    as_view: Optional[str] = typer.Option(
+        None, "--as-view", help="Wrap the SELECT as CREATE OR REPLACE VIEW NAME AS ... for a scheduler."
+    ),
+    folder: Optional[Path] = typer.Option(
+        None, "--folder", help="Write one file per dialect into this folder (<experiment>.<dialect>.sql)."
+    ),
     force: bool = FORCE,
     debug: bool = DEBUG,
 ) -> None:
-    """Print the experiment's one read-only SELECT for a dialect, ready to paste."""
+    """Print the experiment's one read-only SELECT for a dialect, ready to paste or schedule."""
     try:
         from . import api
 
-        _emit(api.sql(spec, dialect), output, (".sql",), force)
+        if folder is not None:
+            written, skipped = api.sql_folder(spec, folder, view=as_view, force=force)
+            for path in written:
+                typer.echo(f"wrote {path}")
+            for name, why in skipped.items():
+                typer.echo(f"skipped {name}: {why}", err=True)
+            return
+        _emit(api.sql(spec, dialect, view=as_view), output, (".sql",), force)
     except Exception as err:  # noqa: BLE001
         _fail(err, debug)
 

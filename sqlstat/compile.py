@@ -15,14 +15,14 @@ import jinja2
 import sqlglot
 from sqlglot import exp
 
-from .dialects import Dialect, finish, get_dialect
+from .dialects import DIALECTS, Dialect, finish, finish_view, get_dialect
 from .errors import CompileError
 from .expressions import CANONICAL, is_predicate
 from .model import Experiment, Metric, Relation, Source
 
 # Columns of every row the query returns, one row per (metric, arm), in this order.
 RESULT_COLUMNS = (
-    "metric_index", "metric", "kind", "method", "segment_index", "segment", "segment_value", "arm",
+    "metric_index", "metric", "kind", "role", "method", "segment_index", "segment", "segment_value", "arm",
     "is_control", "units", "excluded_units", "n", "total", "mean", "variance", "invalid", "x_n",
     "x_total", "x_mean", "x_variance", "xy_covariance", "value", "value_std_error", "control_n",
     "control_total", "control_mean", "control_variance", "control_value", "control_value_std_error",
@@ -137,6 +137,7 @@ def _measures(experiment: Experiment) -> tuple[list[dict], list[dict], list[dict
             "name": _literal(m.name),
             "kind": m.kind,
             "kind_literal": _literal(m.kind),
+            "role": _literal(m.role),
             "method": _literal(m.planned_test),
             "sigma": _number(m.sigma),
             "direction": _literal(m.better) if m.better else "CAST(NULL AS VARCHAR)",
@@ -162,7 +163,22 @@ def _pre_period(experiment: Experiment, dialect: Dialect) -> dict | None:
     return {"source": _source_sql(pp.source, dialect), "unit": _sql(pp.unit), "window": _sql(window)}
 
 
-def render_canonical(experiment: Experiment, dialect: str | Dialect = "duckdb") -> str:
+ALWAYS_VALID_COLUMNS = ("always_valid_p_value", "sequence_low", "sequence_high")
+
+
+def result_columns(experiment: Experiment) -> tuple[str, ...]:
+    """The columns the (non-readout) query returns for this experiment, in order."""
+    return RESULT_COLUMNS + (ALWAYS_VALID_COLUMNS if experiment.always_valid else ())
+
+
+def _srm_arms(experiment: Experiment) -> list[dict]:
+    """Declared arms and planned weights for the in-SQL sample-ratio check (empty: from data)."""
+    arms = experiment.arms or ()
+    weights = experiment.weights or {a: 1.0 for a in arms}
+    return [{"label": _literal(a), "weight": _number(weights[a])} for a in arms]
+
+
+def render_canonical(experiment: Experiment, dialect: str | Dialect = "duckdb", *, readout: bool = False) -> str:
     """The query in canonical DuckDB SQL, shaped for the target's capabilities."""
     d = dialect if isinstance(dialect, Dialect) else get_dialect(dialect)
     measures, pairs, metrics = _measures(experiment)
@@ -182,7 +198,18 @@ def render_canonical(experiment: Experiment, dialect: str | Dialect = "duckdb") 
         "always_valid": experiment.always_valid,
         "mixing_sd": _number(experiment.mixing_sd),
         "alpha": _number(experiment.alpha),
+        "result_columns": result_columns(experiment),
+        "readout": readout,
+        "first_metric": experiment.metrics[0].index,
+        "srm_arms": _srm_arms(experiment),
+        "srm_alpha": _number(experiment.sample_ratio_alpha),
+        "upper_quantile": _number(1 - experiment.alpha / 2),
+        "corrections": {_literal(f): _literal(m) for f, m in experiment.corrections.items()},
     }
+    if readout:
+        from .distributions import template_context
+
+        context.update(template_context())
     return _environment().get_template("experiment.sql.j2").render(**context)
 
 
@@ -214,13 +241,15 @@ def render_baseline(experiment: Experiment, dialect: str | Dialect = "duckdb") -
     return _environment().get_template("baseline.sql.j2").render(**context)
 
 
-def _finish(canonical: str, d: Dialect, pretty: bool) -> str:
+def _finish(canonical: str, d: Dialect, pretty: bool, view: str | None = None) -> str:
     try:
         statements = [s for s in sqlglot.parse(canonical, read=CANONICAL) if s is not None]
     except sqlglot.errors.ParseError as err:  # a template bug, not a user error
         raise CompileError(f"internal error: the rendered query does not parse: {err}") from err
     if len(statements) != 1 or not isinstance(statements[0], exp.Select):
         raise CompileError("internal error: the rendered query is not exactly one SELECT")
+    if view is not None:
+        return finish_view(statements[0], d, view, pretty=pretty) + ";\n"
     return finish(statements[0], d, pretty=pretty) + "\n"
 
 
@@ -230,10 +259,25 @@ def compile_baseline(experiment: Experiment, dialect: str = "duckdb", *, pretty:
     return _finish(render_baseline(experiment, d), d, pretty)
 
 
-def compile_sql(experiment: Experiment, dialect: str = "duckdb", *, pretty: bool = True) -> str:
+def compile_sql(
+    experiment: Experiment, dialect: str = "duckdb", *, pretty: bool = True, view: str | None = None,
+    readout: bool = False,
+) -> str:
     """Compile an experiment into one read-only SELECT in ``dialect``.
 
-    The same experiment and dialect always give byte-identical text.
+    The same experiment and dialect always give byte-identical text. With ``view``, the
+    SELECT is wrapped as ``CREATE OR REPLACE VIEW view AS ...`` for scheduled use.
     """
     d = get_dialect(dialect)
-    return _finish(render_canonical(experiment, d), d, pretty)
+    return _finish(render_canonical(experiment, d, readout=readout), d, pretty, view)
+
+
+def compile_all(experiment: Experiment, *, view: str | None = None) -> tuple[dict[str, str], dict[str, str]]:
+    """The query in every dialect: ({dialect: sql}, {dialect: why it was skipped})."""
+    done, skipped = {}, {}
+    for name in DIALECTS:
+        try:
+            done[name] = compile_sql(experiment, name, view=view)
+        except CompileError as err:
+            skipped[name] = str(err)
+    return done, skipped

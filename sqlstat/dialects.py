@@ -35,6 +35,7 @@ class Dialect:
     # Aggregates to call by another name in this dialect (stable variants, missing aliases).
     renames: dict[type[exp.Expression], str] = field(default_factory=dict)
     reads_files: bool = False  # can read .parquet/.csv paths as a source (DuckDB only)
+    replaces_views: bool = True  # has CREATE OR REPLACE VIEW (T-SQL's CREATE OR ALTER counts)
     executed: str = "parsed only"  # how the test suite covers it (README support table)
 
 
@@ -45,7 +46,9 @@ _DIALECTS = [
     # MySQL and MariaDB have VAR_SAMP but no covariance aggregate.
     Dialect("mysql", "mysql", "MySQL / MariaDB", covariance="via_variance", executed="executed on MariaDB (server)"),
     # SQLite has no variance aggregate at all.
-    Dialect("sqlite", "sqlite", "SQLite", variance="centred", covariance="centred", executed="executed (embedded)"),
+    # SQLite also lacks CREATE OR REPLACE VIEW: the view form drops the old view first.
+    Dialect("sqlite", "sqlite", "SQLite", variance="centred", covariance="centred", replaces_views=False,
+            executed="executed (embedded)"),
     Dialect("spark", "spark", "Spark SQL", executed="executed (pyspark, local mode)"),
     Dialect("databricks", "databricks", "Databricks SQL"),
     # varSamp/covarSamp lose all digits on data with a large offset; the *Stable variants do not.
@@ -102,3 +105,28 @@ def finish(tree: exp.Expression, dialect: Dialect, *, pretty: bool = True) -> st
 
         tree = tree.transform(rename)
     return tree.sql(dialect=dialect.sqlglot, identify=True, pretty=pretty)
+
+
+def finish_view(tree: exp.Expression, dialect: Dialect, name: str, *, pretty: bool = True) -> str:
+    """Wrap a finished SELECT as a view definition for scheduled use.
+
+    The ORDER BY is dropped (views promise no order, and T-SQL refuses one without TOP).
+    Where the dialect cannot replace a view in one statement, it is dropped first.
+    """
+    from .errors import UsageError
+
+    try:
+        table = exp.to_table(name, dialect=dialect.sqlglot)
+    except Exception:  # sqlglot raises several kinds for a bad name
+        table = None
+    if table is None or not all(isinstance(p, exp.Identifier) and p.name for p in table.parts):
+        raise UsageError(f"view name {name!r} must be name, schema.name or catalog.schema.name")
+    select = tree.copy()
+    select.set("order", None)
+    view = normalize_identifiers(table, dialect=dialect.sqlglot)
+    create = exp.Create(this=view, kind="VIEW", replace=dialect.replaces_views, expression=select)
+    text = finish(create, dialect, pretty=pretty)
+    if not dialect.replaces_views:
+        drop = exp.Drop(this=view.copy(), kind="VIEW", exists=True)
+        text = drop.sql(dialect=dialect.sqlglot, identify=True) + ";\n" + text
+    return text
