@@ -109,16 +109,74 @@ def _value_sql(node: exp.Expression) -> str:
     return _sql(node)
 
 
+def _window(experiment: Experiment) -> exp.Expression | None:
+    pp = experiment.pre_period
+    if pp is None:
+        return None
+    start = exp.cast(exp.Literal.string(pp.start), "DATE")
+    end = exp.cast(exp.Literal.string(pp.end), "DATE")
+    window = exp.and_(exp.GTE(this=pp.time.copy(), expression=start), exp.LT(this=pp.time.copy(), expression=end))
+    if pp.where is not None:
+        window = exp.and_(window, exp.Paren(this=pp.where.copy()))
+    return window
+
+
+def _shares_scan(experiment: Experiment) -> bool:
+    """True when the pre-period rows come from the events source itself, so one scan can
+    serve both (each aggregate then only looks at its own rows)."""
+    ev, pp = experiment.events, experiment.pre_period
+    return (
+        ev is not None and pp is not None and not ev.per_unit
+        and ev.source.text.strip() == pp.source.text.strip() and ev.unit.sql() == pp.unit.sql()
+    )
+
+
+def _only_rows(node: exp.Expression, cond: exp.Expression) -> exp.Expression:
+    """Restrict every aggregate in a per-unit value to the rows where ``cond`` holds, and
+    give NULL (no rows) when the unit has none of them, as a separate scan would."""
+    from .expressions import AGGREGATES
+
+    def rewrite(n: exp.Expression) -> exp.Expression:
+        if not isinstance(n, tuple(AGGREGATES)):
+            return n
+        arg = n.this
+        if isinstance(arg, exp.Star):
+            return n.__class__(this=exp.Case(ifs=[exp.If(this=cond.copy(), true=exp.Literal.number(1))]))
+        if isinstance(arg, exp.Distinct):
+            inner = exp.Case(ifs=[exp.If(this=cond.copy(), true=arg.expressions[0].copy())])
+            return n.__class__(this=exp.Distinct(expressions=[inner]))
+        return n.__class__(this=exp.Case(ifs=[exp.If(this=cond.copy(), true=arg.copy())]))
+
+    has_rows = exp.EQ(
+        this=exp.Max(this=exp.Case(ifs=[exp.If(this=cond.copy(), true=exp.Literal.number(1))])),
+        expression=exp.Literal.number(1),
+    )
+    return exp.Case(ifs=[exp.If(this=has_rows, true=node.copy().transform(rewrite))])
+
+
+def _numeric(node: exp.Expression) -> exp.Expression:
+    if is_predicate(node):
+        return exp.Case(ifs=[exp.If(this=node.copy(), true=exp.Literal.number(1))], default=exp.Literal.number(0))
+    return node
+
+
 def _measures(experiment: Experiment) -> tuple[list[dict], list[dict], list[dict]]:
     """Per-unit measures (each a column of the per-unit table), covariance pairs, metrics."""
     measures: list[dict] = []
     pairs: list[dict] = []
     metrics: list[dict] = []
+    shared = _shares_scan(experiment)
+    main_cond = experiment.events.where if shared and experiment.events.where is not None else None
+    pre_cond = _window(experiment) if shared else None
 
     def add(node: exp.Expression, origin: str, missing: str, check_binary: bool) -> str:
         key = str(len(measures))
-        measures.append({"key": key, "sql": _value_sql(node), "origin": origin, "missing": missing,
-                         "check_binary": check_binary})
+        node = _numeric(node)
+        cond = pre_cond if origin == "pre" else main_cond
+        if cond is not None:
+            node = _only_rows(node, cond)
+        measures.append({"key": key, "sql": _sql(node), "origin": "main" if shared else origin,
+                         "missing": missing, "check_binary": check_binary})
         return key
 
     for m in experiment.metrics:
@@ -155,12 +213,7 @@ def _pre_period(experiment: Experiment, dialect: Dialect) -> dict | None:
     pp = experiment.pre_period
     if pp is None:
         return None
-    start = exp.cast(exp.Literal.string(pp.start), "DATE")
-    end = exp.cast(exp.Literal.string(pp.end), "DATE")
-    window = exp.and_(exp.GTE(this=pp.time.copy(), expression=start), exp.LT(this=pp.time.copy(), expression=end))
-    if pp.where is not None:
-        window = exp.and_(window, exp.Paren(this=pp.where.copy()))
-    return {"source": _source_sql(pp.source, dialect), "unit": _sql(pp.unit), "window": _sql(window)}
+    return {"source": _source_sql(pp.source, dialect), "unit": _sql(pp.unit), "window": _sql(_window(experiment))}
 
 
 ALWAYS_VALID_COLUMNS = ("always_valid_p_value", "sequence_low", "sequence_high")
@@ -182,10 +235,18 @@ def render_canonical(experiment: Experiment, dialect: str | Dialect = "duckdb", 
     """The query in canonical DuckDB SQL, shaped for the target's capabilities."""
     d = dialect if isinstance(dialect, Dialect) else get_dialect(dialect)
     measures, pairs, metrics = _measures(experiment)
+    events = _relation(experiment.events, d) if experiment.events is not None else None
+    pre_period = _pre_period(experiment, d)
+    if _shares_scan(experiment):
+        # One scan of the shared source reads both periods' rows.
+        ev_where = experiment.events.where
+        either = _window(experiment) if ev_where is None else exp.or_(exp.Paren(this=ev_where.copy()), exp.Paren(this=_window(experiment)))
+        events["where"] = _sql(either) if ev_where is not None else None
+        pre_period = None
     context = {
         "assignment": _relation(experiment.assignment, d),
-        "events": _relation(experiment.events, d) if experiment.events is not None else None,
-        "pre_period": _pre_period(experiment, d),
+        "events": events,
+        "pre_period": pre_period,
         "measures": measures,
         "pairs": pairs,
         "metrics": metrics,

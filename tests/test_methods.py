@@ -281,3 +281,47 @@ def test_newcombe_worked_example_recalled_from_memory():
     assert lo == pytest.approx(0.0524, abs=5e-5) and hi == pytest.approx(0.3339, abs=5e-5)
     ref = confint_proportions_2indep(56, 70, 48, 80, method="newcomb", compare="diff")  # reference: statsmodels
     assert (lo, hi) == pytest.approx(ref, rel=1e-12)
+
+
+def test_pre_period_from_the_events_source_shares_one_scan(tmp_path, write_spec):
+    """Same numbers whether the pre-period rows are read in the events scan or separately;
+    and DuckDB's plan reads each source file once."""
+    import duckdb
+
+    rng = np.random.default_rng(17)
+    n = 600
+    unit = np.arange(n)
+    arm = rng.choice(["control", "treatment"], size=n)
+    write_parquet(tmp_path / "assignments.parquet", {"unit": unit, "arm": arm})
+    ev_unit = rng.choice(unit, size=4000)
+    day = np.datetime64("2026-06-01") + rng.integers(0, 60, size=4000).astype("timedelta64[D]")
+    write_parquet(tmp_path / "events.parquet", {"unit": ev_unit, "day": day, "amount": rng.gamma(2, 3, size=4000),
+                                                "converted": rng.random(4000) < 0.3})
+    metrics = ['name = "spend"\nkind = "mean"\nvalue = "sum(amount)"\ncuped = true\nmissing = "exclude"',
+               'name = "buyers"\nkind = "proportion"\nvalue = "count(*) >= 2"\ncuped = true']
+    extra = "\nwhere = \"day >= DATE '2026-07-01'\"\n"
+    pre = "\n[pre_period]\nsource = \"{src}\"\nunit = \"unit\"\ntime = \"day\"\nstart = 2026-06-01\nend = 2026-07-01\n"
+    base = spec_text(*metrics).replace('source = "events.parquet"\nunit = "unit"\n', 'source = "events.parquet"\nunit = "unit"' + extra)
+    assert "where = " in base
+    shared = write_spec(base + pre.format(src="events.parquet"), "shared.toml")
+    separate = write_spec(base + pre.format(src="./events.parquet"), "separate.toml")
+    a, b = sqlstat.run(shared), sqlstat.run(separate)
+    for ra, rb in zip(a.results, b.results):
+        assert (ra.metric, ra.arm) == (rb.metric, rb.arm)
+        for field in ("estimate", "std_error", "theta", "p_value"):
+            assert getattr(ra, field) == pytest.approx(getattr(rb, field), rel=1e-12)
+        assert ra.treatment.n == rb.treatment.n
+    plan = duckdb.sql("EXPLAIN " + sqlstat.sql(shared)).fetchall()[0][1]
+    assert plan.count("READ_PARQUET") == 2  # assignments once, events once
+    plan = duckdb.sql("EXPLAIN " + sqlstat.sql(separate)).fetchall()[0][1]
+    assert plan.count("READ_PARQUET") == 3
+
+
+def test_demo_query_reads_each_source_file_once():
+    """Five metrics, CUPED, a ratio and a segment breakdown: still one scan per file."""
+    import duckdb
+
+    from .conftest import PROJECT
+
+    plan = duckdb.sql("EXPLAIN " + sqlstat.sql(PROJECT / "sample_data" / "return_reminders.toml")).fetchall()[0][1]
+    assert plan.count("READ_PARQUET") == 2
