@@ -127,6 +127,6 @@ def finish_view(tree: exp.Expression, dialect: Dialect, name: str, *, pretty: bo
     create = exp.Create(this=view, kind="VIEW", replace=dialect.replaces_views, expression=select)
     text = finish(create, dialect, pretty=pretty)
     if not dialect.replaces_views:
-        drop = exp.Drop(this=view.copy(), kind="VIEW", exists=True)
+        drop = exp.Drop(tables=[view.copy()], kind="VIEW", exists=True)
         text = drop.sql(dialect=dialect.sqlglot, identify=True) + ";\n" + text
     return text
