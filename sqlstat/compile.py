@@ -15,7 +15,7 @@ import jinja2
 import sqlglot
 from sqlglot import exp
 
-from .dialects import Dialect, finish, get_dialect
+from .dialects import Dialect, finish, get_dialect, prepare
 from .errors import CompileError
 from .expressions import CANONICAL, is_predicate
 from .model import Experiment, Metric, Relation, Source
@@ -51,6 +51,11 @@ def _sql(node: exp.Expression) -> str:
     return node.sql(dialect=CANONICAL)
 
 
+def _fragment(node: exp.Expression, dialect: Dialect, *, measure: bool = False) -> str:
+    """A spec fragment, its names already folded for the target (see dialects.prepare)."""
+    return _sql(prepare(node, dialect, measure=measure))
+
+
 def _literal(text: str) -> str:
     return _sql(exp.Literal.string(text))
 
@@ -67,10 +72,10 @@ def _display_path(path: Path) -> str:
 def _source_sql(source: Source, dialect: Dialect) -> str:
     if source.kind == "table":
         assert source.table is not None
-        return _sql(source.table)
+        return _fragment(source.table, dialect)
     if source.kind == "query":
         assert source.query is not None
-        return f"({_sql(source.query)})"
+        return f"({_fragment(source.query, dialect)})"
     assert source.path is not None
     if not dialect.reads_files:
         raise CompileError(
@@ -87,14 +92,14 @@ def _source_sql(source: Source, dialect: Dialect) -> str:
 def _relation(rel: Relation, dialect: Dialect) -> dict:
     return {
         "source": _source_sql(rel.source, dialect),
-        "unit": _sql(rel.unit),
-        "arm": _sql(rel.arm) if rel.arm is not None else None,
+        "unit": _fragment(rel.unit, dialect),
+        "arm": _fragment(rel.arm, dialect) if rel.arm is not None else None,
         "per_unit": rel.per_unit,
-        "where": _sql(rel.where) if rel.where is not None else None,
+        "where": _fragment(rel.where, dialect, measure=True) if rel.where is not None else None,
     }
 
 
-def _metric(m: Metric) -> dict:
+def _metric(m: Metric, dialect: Dialect) -> dict:
     value = m.value
     if is_predicate(value):
         # Booleans do not aggregate or cast alike everywhere: make them 1/0 where computed.
@@ -106,7 +111,7 @@ def _metric(m: Metric) -> dict:
         "kind_literal": _literal(m.kind),
         "method": _literal(m.planned_test),
         "sigma": "NULL" if m.sigma is None else repr(float(m.sigma)),
-        "value": _sql(value),
+        "value": _fragment(value, dialect, measure=True),
         "missing": m.missing,
     }
 
@@ -117,19 +122,19 @@ def render_canonical(experiment: Experiment, dialect: str | Dialect = "duckdb") 
     context = {
         "assignment": _relation(experiment.assignment, d),
         "events": _relation(experiment.events, d) if experiment.events is not None else None,
-        "metrics": [_metric(m) for m in experiment.metrics],
+        "metrics": [_metric(m, d) for m in experiment.metrics],
         "control": _literal(experiment.control),
         "caps": {"variance": d.variance},
     }
     return _environment().get_template("experiment.sql.j2").render(**context)
 
 
-def compile_sql(experiment: Experiment, dialect: str = "duckdb", *, pretty: bool = True) -> str:
-    """Compile an experiment into one read-only SELECT in ``dialect``.
+def compile_sql(experiment: Experiment, dialect: str | Dialect = "duckdb", *, pretty: bool = True) -> str:
+    """Compile an experiment into one read-only SELECT in ``dialect`` (a name or a Dialect).
 
     The same experiment and dialect always give byte-identical text.
     """
-    d = get_dialect(dialect)
+    d = dialect if isinstance(dialect, Dialect) else get_dialect(dialect)
     canonical = render_canonical(experiment, d)
     try:
         statements = [s for s in sqlglot.parse(canonical, read=CANONICAL) if s is not None]
