@@ -167,10 +167,20 @@ def guard_measures(tree: exp.Expression) -> exp.Expression:
     INT overflows at 2^31 on SQL Server, ``int / int`` truncates on PostgreSQL, SQLite,
     SQL Server and Trino and gives a 4-digit DECIMAL on MySQL/MariaDB. So every SUM and
     AVG argument and every dividend is cast to DOUBLE first; sums of integers stay exact
-    up to 2^53.
+    up to 2^53. A division by zero is an error on PostgreSQL and on Spark in ANSI mode,
+    NULL or infinity elsewhere; every divisor becomes NULLIF(divisor, 0), so it is NULL
+    everywhere (and the metric's missing policy applies).
     """
     tree = tree.copy()
     # innermost first, so a dividend that is already a SUM of doubles is not cast twice
     for node in reversed(list(tree.find_all(exp.Sum, exp.Avg, exp.Div, bfs=False))):
         node.set("this", as_double(node.this))
+        if isinstance(node, exp.Div) and not _nonzero_literal(node.expression):
+            node.set("expression", exp.Nullif(this=node.expression, expression=exp.Literal.number(0)))
     return tree
+
+
+def _nonzero_literal(node: exp.Expression) -> bool:
+    while isinstance(node, exp.Paren):
+        node = node.this
+    return isinstance(node, exp.Literal) and not node.is_string and float(node.this) != 0

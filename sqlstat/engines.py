@@ -377,7 +377,7 @@ def _server(dialect: str, parts, masked: str) -> Engine:
         raise
     except Exception as err:
         text = f"cannot connect to {title} at {masked}: {_engine_message(err)}{_connection_hint(str(err))}"
-        raise EngineError(_hide(text, (password or "",)), dialect) from None
+        raise EngineError(_hide(" ".join(text.split()), (password or "",)), dialect) from None
     eng = dbapi_engine(con, dialect, masked, owned=True)
     eng.closer = con.close
     eng.secrets = (password,) if password else ()
@@ -472,7 +472,7 @@ def locate_failure(message: str, experiment: "Experiment") -> str:
     if wants_table:
         for c in candidates:
             if c in tables:
-                return (f"The table {c!r} is {' and '.join(tables[c])}: check its name and schema, and that "
+                return (f"That table is {' and '.join(tables[c])}: check its name and schema, and that "
                         f"this connection's user may read it.")
     if wants_column or not wants_table:
         for c in candidates:

@@ -127,7 +127,7 @@ def write_spec(tmp_path):
 
 # ------------------------------------------------------------------ the engine matrix
 
-from .engine_fixtures import ACCURACY, DIGITS, ENGINE_NAMES, open_database, stop_spark  # noqa: E402
+from .engine_fixtures import ACCURACY, DIGITS, ENGINE_NAMES, WORST, open_database, stop_spark  # noqa: E402
 
 
 @pytest.fixture(scope="session")
@@ -155,6 +155,7 @@ def pytest_terminal_summary(terminalreporter):
     tr.section("engine accuracy (measured in this run)")
     for engine in ENGINE_NAMES:
         if engine in ACCURACY:
-            tr.write_line(f"{engine:<11} worst relative error vs scipy/statsmodels: {ACCURACY[engine]:.1e}")
+            tr.write_line(f"{engine:<11} worst relative error vs scipy/statsmodels: {ACCURACY[engine]:.1e}"
+                          f" ({WORST.get(engine, '')})")
     for (engine, data), digits in sorted(DIGITS.items()):
         tr.write_line(f"{engine:<11} {data:<22} correct significant digits of the sd: {digits:.1f}")

@@ -35,6 +35,7 @@ MYSQL_URL = os.environ.get("SQLSTAT_TEST_MYSQL", "mysql://root@127.0.0.1:3306/te
 # Worst relative error seen per engine, and NumAcc digits, printed at the end of the run
 # (conftest.pytest_terminal_summary) and copied by hand into the README's support table.
 ACCURACY: dict[str, float] = defaultdict(float)
+WORST: dict[str, str] = {}  # which quantity gave the worst error
 DIGITS: dict[tuple[str, str], float] = {}
 
 
@@ -45,12 +46,13 @@ def unavailable(engine: str, reason: str):
     pytest.skip(f"{engine} unavailable: {reason}")
 
 
-def record_error(engine: str, got: float, expected: float) -> None:
+def record_error(engine: str, got: float, expected: float, what: str = "") -> None:
     """Track the worst relative error (absolute when the reference is ~0) per engine."""
     if expected is None or got is None or not (math.isfinite(got) and math.isfinite(expected)):
         return
     err = abs(got - expected) / abs(expected) if abs(expected) > 1e-12 else abs(got - expected)
-    ACCURACY[engine] = max(ACCURACY[engine], err)
+    if err > ACCURACY[engine]:
+        ACCURACY[engine], WORST[engine] = err, what
 
 
 def _kind(values: np.ndarray) -> str:
@@ -182,6 +184,16 @@ class DuckDBDatabase(TestDatabase):
                 con.executemany(sql, params)
             else:
                 con.execute(sql)
+
+    def insert(self, table, idents, rows):
+        import duckdb
+        import pyarrow as pa
+
+        # executemany is row by row in DuckDB; an Arrow table goes in at once.
+        batch = pa.table({f"c{i}": list(col) for i, col in enumerate(zip(*rows))})
+        with duckdb.connect(str(self.path)) as con:
+            con.register("batch", batch)
+            con.execute(f"INSERT INTO {table} ({', '.join(idents)}) SELECT * FROM batch")
 
     def url(self):
         return f"duckdb:///{self.path}"

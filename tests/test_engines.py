@@ -85,7 +85,7 @@ def unit_values(assignments, events, fn, missing="zero"):
 
 def close(engine, got, expected, what=""):
     """Assert 1e-9 relative (1e-12 absolute near zero) and record the error for the README."""
-    record_error(engine, got, expected)
+    record_error(engine, got, expected, what)
     assert got == pytest.approx(expected, rel=REL, abs=ABS), f"{engine}: {what}: {got!r} != {expected!r}"
 
 
@@ -107,30 +107,33 @@ def check_against_references(engine, analysis, metric, values, *, sigma=None, al
         if res.test in ("welch_t", "student_t"):
             ref = sps.ttest_ind(arm, control, equal_var=res.test == "student_t")  # reference: scipy
             ci = ref.confidence_interval(1 - alpha)
-            pairs = [(res.statistic, ref.statistic), (res.df, ref.df), (res.p_value, ref.pvalue),
-                     (res.ci_low, ci.low), (res.ci_high, ci.high)]
+            pairs = [("statistic", res.statistic, ref.statistic), ("df", res.df, ref.df),
+                     ("p", res.p_value, ref.pvalue), ("ci_low", res.ci_low, ci.low), ("ci_high", res.ci_high, ci.high)]
         elif res.test == "z_known_sigma":
             # reference: textbook z = diff / (sigma sqrt(1/n1 + 1/n2)), scipy.stats.norm
             se = sigma * math.sqrt(1 / arm.size + 1 / control.size)
             z = (arm.mean() - control.mean()) / se
             q = sps.norm.ppf(1 - alpha / 2)
-            pairs = [(res.statistic, z), (res.p_value, 2 * sps.norm.sf(abs(z))),
-                     (res.ci_low, arm.mean() - control.mean() - q * se), (res.ci_high, arm.mean() - control.mean() + q * se)]
+            pairs = [("statistic", res.statistic, z), ("p", res.p_value, 2 * sps.norm.sf(abs(z))),
+                     ("ci_low", res.ci_low, arm.mean() - control.mean() - q * se),
+                     ("ci_high", res.ci_high, arm.mean() - control.mean() + q * se)]
         elif res.test == "two_proportion_z":
             x, n = [int(arm.sum()), int(control.sum())], [arm.size, control.size]
             z, p = proportions_ztest(x, n)  # reference: statsmodels (pooled variance under no difference)
             lo, hi = confint_proportions_2indep(x[0], n[0], x[1], n[1], method="wald", compare="diff", alpha=alpha)
-            pairs = [(res.statistic, z), (res.p_value, p), (res.ci_low, lo), (res.ci_high, hi)]
+            pairs = [("statistic", res.statistic, z), ("p", res.p_value, p), ("ci_low", res.ci_low, lo),
+                     ("ci_high", res.ci_high, hi)]
         elif res.test == "fisher_exact":
             xt, xc = int(arm.sum()), int(control.sum())
             ref = sps.fisher_exact([[xt, arm.size - xt], [xc, control.size - xc]])  # reference: scipy
             lo, hi = confint_proportions_2indep(xt, arm.size, xc, control.size, method="newcomb", compare="diff",
                                                 alpha=alpha)  # reference: statsmodels
-            pairs = [(res.statistic, ref.statistic), (res.p_value, ref.pvalue), (res.ci_low, lo), (res.ci_high, hi)]
+            pairs = [("odds ratio", res.statistic, ref.statistic), ("p", res.p_value, ref.pvalue),
+                     ("ci_low", res.ci_low, lo), ("ci_high", res.ci_high, hi)]
         else:  # pragma: no cover - a new test kind needs a reference here
             raise AssertionError(f"no reference for test {res.test}")
-        for got, expected in pairs:
-            close(engine, got, expected, f"{what} {res.test}")
+        for label, got, expected in pairs:
+            close(engine, got, expected, f"{what} {res.test} {label}")
     return results
 
 
@@ -151,6 +154,12 @@ METRICS = {
                         lambda r: r["items"].sum() / r["items"].size, "exclude"),
     "avg_items": ('kind = "mean"\nvalue = "avg(items)"\nmissing = "exclude"', lambda r: r["items"].mean(), "exclude"),
     "many_items": ('kind = "proportion"\nvalue = "sum(items) >= 5"', lambda r: float(r["items"].sum() >= 5), "zero"),
+    # a divisor that is 0 for some units: an error on some engines unless guarded (then NULL)
+    "items_per_conversion": ('kind = "mean"\nvalue = "sum(items) / count_if(converted)"\nmissing = "exclude"',
+                             lambda r: r["items"].sum() / r["converted"].sum() if r["converted"].any() else math.nan,
+                             "exclude"),
+    # a decimal literal: DECIMAL arithmetic on Spark and MariaDB, DOUBLE elsewhere
+    "tenths": ('kind = "mean"\nvalue = "sum(items * 0.1)"', lambda r: (r["items"] * 0.1).sum(), "zero"),
 }
 
 
@@ -399,3 +408,23 @@ def test_python_entry_point_takes_an_open_connection(engine_db, matrix):
             con.close()
     values = unit_values(assignments, events, lambda r: float(r["converted"].any()))
     check_against_references(engine_db.name, analysis, "converted", values)
+
+
+# ------------------------------------------------------------------ the SQLSTAT_REQUIRE_ENGINES switch
+
+
+@pytest.mark.parametrize("required, outcome", [(False, pytest.skip.Exception), (True, pytest.fail.Exception)])
+def test_absent_engine_skips_unless_required(monkeypatch, tmp_path, required, outcome):
+    """A server that is down or a package that is missing skips its tests with the reason,
+    and fails them instead when SQLSTAT_REQUIRE_ENGINES=1 (as .ci/run sets)."""
+    import sys
+
+    from . import engine_fixtures as ef
+
+    monkeypatch.setattr(ef, "REQUIRED", required)
+    monkeypatch.setattr(ef, "PG_URL", "postgresql://postgres@127.0.0.1:1/test")  # nothing listens on port 1
+    with pytest.raises(outcome, match="postgres.*(refused|failed)"):
+        ef.open_database("postgres", tmp_path)
+    monkeypatch.setitem(sys.modules, "chdb", None)  # as if the heavy extra were not installed
+    with pytest.raises(outcome, match="clickhouse.*not installed"):
+        ef.open_database("clickhouse", tmp_path)

@@ -159,3 +159,17 @@ def test_cli_connection_errors_are_clear_and_never_show_the_password(engine_db, 
     assert out.startswith(f"Error: cannot connect to {title}") and words in out, out
     assert f"(dialect: {engine_db.dialect})" in out
     assert one_paragraph(out), out
+
+
+@pytest.mark.parametrize("url, words", [("duckdb:///no/such/file.duckdb", "DuckDB database file not found"),
+                                        ("sqlite:///no/such/file.sqlite", "SQLite database file not found"),
+                                        ("oracle://scott:tiger@db/orcl", "unsupported database URL")])
+def test_cli_database_that_cannot_be_opened(tmp_path, url, words):
+    """The embedded engines' counterpart of 'connection refused': a file that is not there
+    (exit 3); an unknown scheme is a usage error (exit 2) that still masks the password."""
+    spec = tmp_path / "s.toml"
+    spec.write_text(spec_text(SPEND, assignment_source="a", events_source="e"))
+    code, out = cli("run", spec, "--db", url)
+    assert code == (2 if url.startswith("oracle") else 3), out
+    assert words in out and one_paragraph(out), out
+    assert "tiger" not in out

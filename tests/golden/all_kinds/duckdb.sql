@@ -19,7 +19,7 @@ WITH "assigned_units" AS (
     SUM(CAST("total" AS DOUBLE)) AS "raw_1",
     SUM(CAST("total" AS DOUBLE)) AS "raw_2",
     SUM(CAST("total" AS DOUBLE)) AS "raw_3",
-    SUM(CAST("items" AS DOUBLE)) / COUNT(*) AS "raw_4",
+    SUM(CAST("items" AS DOUBLE)) / NULLIF(COUNT(*), 0) AS "raw_4",
     AVG(CAST("items" AS DOUBLE)) AS "raw_5"
   FROM "shop"."orders" AS "event_rows"
   WHERE

@@ -19,7 +19,7 @@ WITH `assigned_units` AS (
     SUM(CAST(`total` AS REAL)) AS `raw_1`,
     SUM(CAST(`total` AS REAL)) AS `raw_2`,
     SUM(CAST(`total` AS REAL)) AS `raw_3`,
-    CAST(SUM(CAST(`items` AS REAL)) AS REAL) / COUNT(*) AS `raw_4`,
+    CAST(SUM(CAST(`items` AS REAL)) AS REAL) / NULLIF(COUNT(*), 0) AS `raw_4`,
     AVG(CAST(`items` AS REAL)) AS `raw_5`
   FROM `shop`.`orders` AS `event_rows`
   WHERE

@@ -19,7 +19,7 @@ WITH [assigned_units] AS (
     SUM(CAST([total] AS FLOAT)) AS [raw_1],
     SUM(CAST([total] AS FLOAT)) AS [raw_2],
     SUM(CAST([total] AS FLOAT)) AS [raw_3],
-    CAST(SUM(CAST([items] AS FLOAT)) AS FLOAT) / COUNT_BIG(*) AS [raw_4],
+    CAST(SUM(CAST([items] AS FLOAT)) AS FLOAT) / NULLIF(COUNT_BIG(*), 0) AS [raw_4],
     AVG(CAST([items] AS FLOAT)) AS [raw_5]
   FROM [shop].[orders] AS [event_rows]
   WHERE
