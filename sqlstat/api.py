@@ -68,10 +68,11 @@ def run(
 
     Args:
         spec: a spec file path or an Experiment.
-        db: a database URL (duckdb:///, postgresql://, mysql://, sqlite:///); default is
-            DuckDB in memory, which reads .parquet/.csv sources.
-        connection: an open DB-API 2.0 connection instead of a URL (give ``dialect`` too).
-        dialect: the SQL dialect of ``connection``.
+        db: a database URL (duckdb:///, postgresql://, mysql://, sqlite:///, spark://local[2],
+            chdb:///folder); default is DuckDB in memory, which reads .parquet/.csv sources.
+        connection: an open DB-API 2.0 connection instead of a URL (give ``dialect`` too),
+            a DuckDB connection, a pyspark SparkSession or a chdb connection.
+        dialect: the SQL dialect of ``connection`` (inferred for DuckDB, Spark and chdb).
         engine: an Engine from sqlstat.engines, for full control.
     """
     from . import engines
@@ -80,15 +81,11 @@ def run(
     owned = False
     if engine is None:
         if connection is not None:
-            if dialect is None:
-                from .errors import UsageError
-
-                raise UsageError("give the dialect of the connection, e.g. dialect='postgres'")
-            engine = engines.duckdb_engine(connection=connection) if dialect == "duckdb" else engines.dbapi_engine(connection, dialect)
+            engine = engines.engine_for(connection, dialect)
         else:
             engine, owned = engines.connect(db), True
     try:
-        rows = engine.run(compile_sql(experiment, engine.dialect))
+        rows = engine.run(compile_sql(experiment, engine.dialect), experiment)
     finally:
         if owned:
             engine.close()

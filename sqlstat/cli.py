@@ -60,8 +60,8 @@ def _emit(text: str, output: Optional[Path], kinds: tuple[str, ...], force: bool
 def run(
     spec: Path = SPEC,
     db: Optional[str] = typer.Option(
-        None, "--db", help="Database URL: duckdb:///file.db, postgresql://..., mysql://..., sqlite:///file.db. "
-        "Default: DuckDB in memory (reads .parquet/.csv sources).",
+        None, "--db", help="Database URL: duckdb:///file.db, postgresql://..., mysql://..., sqlite:///file.db, "
+        "spark://local[2], chdb:///folder. Default: DuckDB in memory (reads .parquet/.csv sources).",
     ),
     fmt: Format = typer.Option(Format.table, "--format", "-f", help="table, json or csv (one row per metric and arm)."),
     output: Optional[Path] = typer.Option(None, "--output", "-o", help="Write to this file (atomically) instead of stdout."),

@@ -15,7 +15,7 @@ import jinja2
 import sqlglot
 from sqlglot import exp
 
-from .dialects import DIALECTS, Dialect, finish, finish_view, get_dialect
+from .dialects import DIALECTS, Dialect, finish, finish_view, get_dialect, prepare
 from .errors import CompileError
 from .expressions import CANONICAL, is_predicate
 from .model import Experiment, Metric, Relation, Source
@@ -55,6 +55,11 @@ def _sql(node: exp.Expression) -> str:
     return node.sql(dialect=CANONICAL)
 
 
+def _fragment(node: exp.Expression, dialect: Dialect, *, measure: bool = False) -> str:
+    """A spec fragment, its names already folded for the target (see dialects.prepare)."""
+    return _sql(prepare(node, dialect, measure=measure))
+
+
 def _literal(text: str) -> str:
     return _sql(exp.Literal.string(text))
 
@@ -71,10 +76,10 @@ def _display_path(path: Path) -> str:
 def _source_sql(source: Source, dialect: Dialect) -> str:
     if source.kind == "table":
         assert source.table is not None
-        return _sql(source.table)
+        return _fragment(source.table, dialect)
     if source.kind == "query":
         assert source.query is not None
-        return f"({_sql(source.query)})"
+        return f"({_fragment(source.query, dialect)})"
     assert source.path is not None
     if not dialect.reads_files:
         raise CompileError(
@@ -91,10 +96,10 @@ def _source_sql(source: Source, dialect: Dialect) -> str:
 def _relation(rel: Relation, dialect: Dialect) -> dict:
     return {
         "source": _source_sql(rel.source, dialect),
-        "unit": _sql(rel.unit),
-        "arm": _sql(rel.arm) if rel.arm is not None else None,
+        "unit": _fragment(rel.unit, dialect),
+        "arm": _fragment(rel.arm, dialect) if rel.arm is not None else None,
         "per_unit": rel.per_unit,
-        "where": _sql(rel.where) if rel.where is not None else None,
+        "where": _fragment(rel.where, dialect, measure=True) if rel.where is not None else None,
     }
 
 
@@ -102,11 +107,10 @@ def _number(x: float | None) -> str:
     return "NULL" if x is None else repr(float(x))
 
 
-def _value_sql(node: exp.Expression) -> str:
-    if is_predicate(node):
-        # Booleans do not aggregate or cast alike everywhere: make them 1/0 where computed.
-        node = exp.Case(ifs=[exp.If(this=node.copy(), true=exp.Literal.number(1))], default=exp.Literal.number(0))
-    return _sql(node)
+def _value_sql(node: exp.Expression, dialect: Dialect) -> str:
+    """A per-unit value: booleans made 1/0 where computed (engines disagree on boolean
+    arithmetic), names folded and measures cast to DOUBLE for the target."""
+    return _fragment(_numeric(node), dialect, measure=True)
 
 
 def _window(experiment: Experiment) -> exp.Expression | None:
@@ -160,7 +164,7 @@ def _numeric(node: exp.Expression) -> exp.Expression:
     return node
 
 
-def _measures(experiment: Experiment) -> tuple[list[dict], list[dict], list[dict]]:
+def _measures(experiment: Experiment, dialect: Dialect) -> tuple[list[dict], list[dict], list[dict]]:
     """Per-unit measures (each a column of the per-unit table), covariance pairs, metrics."""
     measures: list[dict] = []
     pairs: list[dict] = []
@@ -175,7 +179,7 @@ def _measures(experiment: Experiment) -> tuple[list[dict], list[dict], list[dict
         cond = pre_cond if origin == "pre" else main_cond
         if cond is not None:
             node = _only_rows(node, cond)
-        measures.append({"key": key, "sql": _sql(node), "origin": "main" if shared else origin,
+        measures.append({"key": key, "sql": _fragment(node, dialect, measure=True), "origin": "main" if shared else origin,
                          "missing": missing, "check_binary": check_binary})
         return key
 
@@ -213,7 +217,8 @@ def _pre_period(experiment: Experiment, dialect: Dialect) -> dict | None:
     pp = experiment.pre_period
     if pp is None:
         return None
-    return {"source": _source_sql(pp.source, dialect), "unit": _sql(pp.unit), "window": _sql(_window(experiment))}
+    return {"source": _source_sql(pp.source, dialect), "unit": _fragment(pp.unit, dialect),
+            "window": _fragment(_window(experiment), dialect, measure=True)}
 
 
 ALWAYS_VALID_COLUMNS = ("always_valid_p_value", "sequence_low", "sequence_high")
@@ -234,14 +239,14 @@ def _srm_arms(experiment: Experiment) -> list[dict]:
 def render_canonical(experiment: Experiment, dialect: str | Dialect = "duckdb", *, readout: bool = False) -> str:
     """The query in canonical DuckDB SQL, shaped for the target's capabilities."""
     d = dialect if isinstance(dialect, Dialect) else get_dialect(dialect)
-    measures, pairs, metrics = _measures(experiment)
+    measures, pairs, metrics = _measures(experiment, d)
     events = _relation(experiment.events, d) if experiment.events is not None else None
     pre_period = _pre_period(experiment, d)
     if _shares_scan(experiment):
         # One scan of the shared source reads both periods' rows.
         ev_where = experiment.events.where
         either = _window(experiment) if ev_where is None else exp.or_(exp.Paren(this=ev_where.copy()), exp.Paren(this=_window(experiment)))
-        events["where"] = _sql(either) if ev_where is not None else None
+        events["where"] = _fragment(either, d, measure=True) if ev_where is not None else None
         pre_period = None
     context = {
         "assignment": _relation(experiment.assignment, d),
@@ -251,7 +256,7 @@ def render_canonical(experiment: Experiment, dialect: str | Dialect = "duckdb", 
         "pairs": pairs,
         "metrics": metrics,
         "segments": [
-            {"index": i, "column": _sql(col), "name": _literal(col.name)}
+            {"index": i, "column": _fragment(col, d), "name": _literal(col.name)}
             for i, col in enumerate(experiment.segments, start=1)
         ],
         "control": _literal(experiment.control),
@@ -285,11 +290,11 @@ def render_baseline(experiment: Experiment, dialect: str | Dialect = "duckdb") -
     measures, pairs, metrics = [], [], []
     for m in experiment.metrics:
         y = str(len(measures))
-        measures.append({"key": y, "sql": _value_sql(m.value)})
+        measures.append({"key": y, "sql": _value_sql(m.value, d)})
         x = None
         if m.denominator is not None:
             x = str(len(measures))
-            measures.append({"key": x, "sql": _value_sql(m.denominator)})
+            measures.append({"key": x, "sql": _value_sql(m.denominator, d)})
             pairs.append({"a": y, "b": x})
         metrics.append({"index": m.index, "name": _literal(m.name), "kind_literal": _literal(m.kind), "y": y, "x": x})
     context = {
@@ -314,22 +319,23 @@ def _finish(canonical: str, d: Dialect, pretty: bool, view: str | None = None) -
     return finish(statements[0], d, pretty=pretty) + "\n"
 
 
-def compile_baseline(experiment: Experiment, dialect: str = "duckdb", *, pretty: bool = True) -> str:
+def compile_baseline(experiment: Experiment, dialect: str | Dialect = "duckdb", *, pretty: bool = True) -> str:
     """Compile the planning baseline query (one read-only SELECT over the pre-period)."""
-    d = get_dialect(dialect)
+    d = dialect if isinstance(dialect, Dialect) else get_dialect(dialect)
     return _finish(render_baseline(experiment, d), d, pretty)
 
 
 def compile_sql(
-    experiment: Experiment, dialect: str = "duckdb", *, pretty: bool = True, view: str | None = None,
+    experiment: Experiment, dialect: str | Dialect = "duckdb", *, pretty: bool = True, view: str | None = None,
     readout: bool = False,
 ) -> str:
-    """Compile an experiment into one read-only SELECT in ``dialect``.
+    """Compile an experiment into one read-only SELECT in ``dialect`` (a name or a Dialect).
 
     The same experiment and dialect always give byte-identical text. With ``view``, the
-    SELECT is wrapped as ``CREATE OR REPLACE VIEW view AS ...`` for scheduled use.
+    SELECT is wrapped as ``CREATE OR REPLACE VIEW view AS ...`` for scheduled use; with
+    ``readout``, the query also carries p-values, intervals, adjustments and verdicts.
     """
-    d = get_dialect(dialect)
+    d = dialect if isinstance(dialect, Dialect) else get_dialect(dialect)
     return _finish(render_canonical(experiment, d, readout=readout), d, pretty, view)
 
 

@@ -9,8 +9,10 @@ never an ``if dialect == ...`` in a template.
 from __future__ import annotations
 
 from dataclasses import dataclass, field
+from functools import lru_cache
 
 from sqlglot import exp
+from sqlglot.dialects.dialect import Dialect as SqlglotDialect
 from sqlglot.optimizer.normalize_identifiers import normalize_identifiers
 
 from .errors import UsageError
@@ -36,37 +38,53 @@ class Dialect:
     renames: dict[type[exp.Expression], str] = field(default_factory=dict)
     reads_files: bool = False  # can read .parquet/.csv paths as a source (DuckDB only)
     replaces_views: bool = True  # has CREATE OR REPLACE VIEW (T-SQL's CREATE OR ALTER counts)
+    # Query-level settings appended to the statement (ClickHouse: SETTINGS k = v).
+    settings: dict[str, int] = field(default_factory=dict)
+    # Identifier quote to print with, when the dialect's usual one is unsafe.
+    quote: str = ""
     executed: str = "parsed only"  # how the test suite covers it (README support table)
 
 
 _DIALECTS = [
+    # DuckDB, PostgreSQL (Youngs-Cramer, since 12), MariaDB (Welford) and Spark (central
+    # moments, updated online) have stable native variances: checked on NumAcc1-4 here.
     Dialect("duckdb", "duckdb", "DuckDB", reads_files=True, executed="executed (embedded)"),
     Dialect("postgres", "postgres", "PostgreSQL", executed="executed (server)"),
     # MariaDB has no sqlglot dialect of its own; MySQL's is the right one for what we emit.
     # MySQL and MariaDB have VAR_SAMP but no covariance aggregate.
     Dialect("mysql", "mysql", "MySQL / MariaDB", covariance="via_variance", executed="executed on MariaDB (server)"),
-    # SQLite has no variance aggregate at all.
+    # SQLite has no variance aggregate at all. And it reads a double-quoted name that
+    # matches no column as a string literal: sum("amout") is silently 0. A name in grave
+    # accents is always an identifier, so a typo becomes "no such column".
     # SQLite also lacks CREATE OR REPLACE VIEW: the view form drops the old view first.
-    Dialect("sqlite", "sqlite", "SQLite", variance="centred", covariance="centred", replaces_views=False,
-            executed="executed (embedded)"),
+    Dialect("sqlite", "sqlite", "SQLite", variance="centred", covariance="centred", quote="`",
+            replaces_views=False, executed="executed (embedded)"),
     Dialect("spark", "spark", "Spark SQL", executed="executed (pyspark, local mode)"),
+    # Databricks runs Spark SQL: the same aggregates as the executed Spark dialect.
     Dialect("databricks", "databricks", "Databricks SQL"),
-    # varSamp/covarSamp lose all digits on data with a large offset; the *Stable variants do not.
     Dialect(
         "clickhouse",
         "clickhouse",
         "ClickHouse",
+        # varSamp/covarSamp lose all digits on data with a large offset; the *Stable variants do not.
         renames={exp.Variance: "varSampStable", exp.CovarSamp: "covarSampStable"},
+        # Without it, a LEFT JOIN fills unmatched rows with 0 and '' instead of NULL, so
+        # units with no events would count as 0 even under missing = "exclude".
+        settings={"join_use_nulls": 1},
         executed="executed (chdb, embedded)",
     ),
-    Dialect("snowflake", "snowflake", "Snowflake"),
-    Dialect("bigquery", "bigquery", "BigQuery"),
-    # Redshift documents no covariance aggregate.
-    Dialect("redshift", "redshift", "Amazon Redshift", covariance="via_variance"),
+    # Snowflake, BigQuery, Redshift and SQL Server do not document how their variance and
+    # covariance are computed and none runs here, so they get the two-pass forms proven on
+    # six engines (Redshift and SQL Server have no covariance aggregate at all).
+    Dialect("snowflake", "snowflake", "Snowflake", variance="centred", covariance="centred"),
+    Dialect("bigquery", "bigquery", "BigQuery", variance="centred", covariance="centred"),
+    Dialect("redshift", "redshift", "Amazon Redshift", variance="centred", covariance="centred"),
+    # Trino's variance keeps a running mean and sum of squared deviations (Welford).
     Dialect("trino", "trino", "Trino / Presto"),
-    # T-SQL spells the sample variance VAR (sqlglot would print VARIANCE, which T-SQL lacks).
-    # T-SQL has no covariance aggregate either.
-    Dialect("tsql", "tsql", "SQL Server (T-SQL)", covariance="via_variance", renames={exp.Variance: "VAR"}),
+    # T-SQL spells the sample variance VAR (sqlglot would print VARIANCE, which T-SQL
+    # lacks); unused while the variance is centred, kept for any native use.
+    Dialect("tsql", "tsql", "SQL Server (T-SQL)", variance="centred", covariance="centred",
+            renames={exp.Variance: "VAR"}),
 ]
 
 DIALECTS: dict[str, Dialect] = {d.name: d for d in _DIALECTS}
@@ -104,7 +122,76 @@ def finish(tree: exp.Expression, dialect: Dialect, *, pretty: bool = True) -> st
             return exp.Anonymous(this=new, expressions=args)
 
         tree = tree.transform(rename)
-    return tree.sql(dialect=dialect.sqlglot, identify=True, pretty=pretty)
+    if isinstance(tree, exp.Select):
+        _apply_settings(tree, dialect)
+    return tree.sql(dialect=_printer(dialect.sqlglot, dialect.quote), identify=True, pretty=pretty)
+
+
+@lru_cache(maxsize=None)
+def _printer(name: str, quote: str):
+    """sqlglot's dialect ``name``, or a subclass of it that prints identifiers in ``quote``."""
+    if not quote:
+        return name
+    base = SqlglotDialect.get_or_raise(name).__class__
+    tokenizer = type("Tokenizer", (base.tokenizer_class,), {
+        "IDENTIFIERS": [quote] + [q for q in base.tokenizer_class.IDENTIFIERS if q != quote],
+    })
+    return type(f"_sqlstat_{name}_quoted", (base,), {"Tokenizer": tokenizer})
+
+
+def prepare(node: exp.Expression, dialect: Dialect, *, measure: bool = False) -> exp.Expression:
+    """A spec fragment made ready for the canonical template text of ``dialect``.
+
+    Names are folded with the target's case rules here, before the template is rendered:
+    DuckDB must print a reserved word such as ``Order`` quoted, and a quoted name keeps its
+    case, so folding later would look for ``"Order"`` on PostgreSQL instead of ``order``.
+    With ``measure``, SUM/AVG arguments and dividends are also cast to DOUBLE.
+    """
+    node = normalize_identifiers(node.copy(), dialect=dialect.sqlglot)
+    return guard_measures(node) if measure else node
+
+
+def _is_double(node: exp.Expression) -> bool:
+    """True when the expression is DOUBLE on every engine: a cast, or built from one."""
+    if isinstance(node, exp.Cast):
+        return node.to.is_type(exp.DataType.Type.DOUBLE)
+    if isinstance(node, (exp.Paren, exp.Sum, exp.Avg, exp.Min, exp.Max, exp.Neg)):
+        return _is_double(node.this)
+    if isinstance(node, (exp.Add, exp.Sub, exp.Mul, exp.Div)):
+        return _is_double(node.this) or _is_double(node.expression)
+    return False
+
+
+def as_double(node: exp.Expression) -> exp.Expression:
+    """``CAST(node AS DOUBLE)``, unless it already is one."""
+    return node if _is_double(node) else exp.Cast(this=node, to=exp.DataType.build("DOUBLE"))
+
+
+def guard_measures(tree: exp.Expression) -> exp.Expression:
+    """Make a user fragment compute in double precision on every engine.
+
+    Engines disagree on integer and decimal arithmetic: AVG of an integer is a DECIMAL
+    with 4 digits on MySQL/MariaDB and an integer on SQL Server and Redshift, SUM of an
+    INT overflows at 2^31 on SQL Server, ``int / int`` truncates on PostgreSQL, SQLite,
+    SQL Server and Trino and gives a 4-digit DECIMAL on MySQL/MariaDB. So every SUM and
+    AVG argument and every dividend is cast to DOUBLE first; sums of integers stay exact
+    up to 2^53. A division by zero is an error on PostgreSQL and on Spark in ANSI mode,
+    NULL or infinity elsewhere; every divisor becomes NULLIF(divisor, 0), so it is NULL
+    everywhere (and the metric's missing policy applies).
+    """
+    tree = tree.copy()
+    # innermost first, so a dividend that is already a SUM of doubles is not cast twice
+    for node in reversed(list(tree.find_all(exp.Sum, exp.Avg, exp.Div, bfs=False))):
+        node.set("this", as_double(node.this))
+        if isinstance(node, exp.Div) and not _nonzero_literal(node.expression):
+            node.set("expression", exp.Nullif(this=node.expression, expression=exp.Literal.number(0)))
+    return tree
+
+
+def _nonzero_literal(node: exp.Expression) -> bool:
+    while isinstance(node, exp.Paren):
+        node = node.this
+    return isinstance(node, exp.Literal) and not node.is_string and float(node.this) != 0
 
 
 def finish_view(tree: exp.Expression, dialect: Dialect, name: str, *, pretty: bool = True) -> str:
@@ -123,10 +210,18 @@ def finish_view(tree: exp.Expression, dialect: Dialect, name: str, *, pretty: bo
         raise UsageError(f"view name {name!r} must be name, schema.name or catalog.schema.name")
     select = tree.copy()
     select.set("order", None)
+    _apply_settings(select, dialect)
     view = normalize_identifiers(table, dialect=dialect.sqlglot)
     create = exp.Create(this=view, kind="VIEW", replace=dialect.replaces_views, expression=select)
     text = finish(create, dialect, pretty=pretty)
     if not dialect.replaces_views:
         drop = exp.Drop(tables=[view.copy()], kind="VIEW", exists=True)
-        text = drop.sql(dialect=dialect.sqlglot, identify=True) + ";\n" + text
+        text = finish(drop, dialect, pretty=False) + ";\n" + text
     return text
+
+
+def _apply_settings(select: exp.Select, dialect: Dialect) -> None:
+    if dialect.settings:
+        select.set("settings", [
+            exp.EQ(this=exp.column(k), expression=exp.Literal.number(v)) for k, v in dialect.settings.items()
+        ])

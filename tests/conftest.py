@@ -123,3 +123,39 @@ def write_spec(tmp_path):
         return p
 
     return _write
+
+
+# ------------------------------------------------------------------ the engine matrix
+
+from .engine_fixtures import ACCURACY, DIGITS, ENGINE_NAMES, WORST, open_database, stop_spark  # noqa: E402
+
+
+@pytest.fixture(scope="session")
+def engine_folder(tmp_path_factory):
+    return tmp_path_factory.mktemp("engines")
+
+
+@pytest.fixture(scope="session", params=ENGINE_NAMES)
+def engine_db(request, engine_folder):
+    """One executed engine with a scratch schema; every engine test runs on each in turn."""
+    db = open_database(request.param, engine_folder)
+    yield db
+    db.close()
+
+
+def pytest_sessionfinish(session, exitstatus):
+    stop_spark()
+
+
+def pytest_terminal_summary(terminalreporter):
+    """Print what the engine matrix measured, for the README's support table."""
+    if not ACCURACY and not DIGITS:
+        return
+    tr = terminalreporter
+    tr.section("engine accuracy (measured in this run)")
+    for engine in ENGINE_NAMES:
+        if engine in ACCURACY:
+            tr.write_line(f"{engine:<11} worst relative error vs scipy/statsmodels: {ACCURACY[engine]:.1e}"
+                          f" ({WORST.get(engine, '')})")
+    for (engine, data), digits in sorted(DIGITS.items()):
+        tr.write_line(f"{engine:<11} {data:<22} correct significant digits of the sd: {digits:.1f}")

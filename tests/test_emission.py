@@ -42,7 +42,7 @@ def test_view_form_on_sqlite_drops_then_creates(tmp_path, write_spec):
                                                          for _ in range(600)])
     path = write_spec(spec_text(METRICS[0], assignment_source="asg", events_source="ev"))
     text = sqlstat.sql(path, "sqlite", view="readout")
-    assert text.startswith('DROP VIEW IF EXISTS "readout";')
+    assert text.startswith('DROP VIEW IF EXISTS `readout`;')
     con.executescript(text)
     con.executescript(text)  # twice: replacing an existing view
     assert len(con.execute('SELECT * FROM "readout"').fetchall()) == 2

@@ -1,0 +1,554 @@
+WITH `assigned_units` AS (
+  SELECT
+    `visitor_id` AS `unit_id`,
+    MIN(CAST(`arm` AS CHAR)) AS `arm_label`,
+    MAX(CAST(`arm` AS CHAR)) AS `arm_label_last`
+  FROM (
+    SELECT
+      `visitor_id`,
+      `arm`
+    FROM `shop`.`assignments`
+    WHERE
+      `site` = 'main'
+  ) AS `assignment_rows`
+  GROUP BY
+    `visitor_id`
+), `unit_events` AS (
+  SELECT
+    `visitor_id` AS `unit_id`,
+    COALESCE(`spend`, 0) AS `raw_0`
+  FROM `shop`.`visitor_totals` AS `event_rows`
+), `unit_joined` AS (
+  SELECT
+    `a`.`unit_id`,
+    `a`.`arm_label`,
+    `a`.`arm_label_last`,
+    `e`.`raw_0`
+  FROM `assigned_units` AS `a`
+  LEFT JOIN `unit_events` AS `e`
+    ON `a`.`unit_id` = `e`.`unit_id`
+), `unit_values` AS (
+  SELECT
+    CASE WHEN `arm_label` = `arm_label_last` THEN `arm_label` END AS `arm_label`,
+    COALESCE(CAST(`raw_0` AS DOUBLE), 0.0) AS `v_0`
+  FROM `unit_joined`
+), `segment_list` AS (
+  SELECT
+    0 AS `segment_index`,
+    CAST(NULL AS CHAR) AS `segment`
+), `unit_segments` AS (
+  SELECT
+    `u`.`arm_label`,
+    `g`.`segment_index`,
+    `g`.`segment`,
+    CASE `g`.`segment_index` WHEN 0 THEN '(all)' END AS `segment_value`,
+    `u`.`v_0`
+  FROM `unit_values` AS `u`
+  CROSS JOIN `segment_list` AS `g`
+), `arm_stats` AS (
+  SELECT
+    `arm_label`,
+    `segment_index`,
+    `segment`,
+    `segment_value`,
+    CAST(COUNT(*) AS DOUBLE) AS `units`,
+    CAST(COUNT(`v_0`) AS DOUBLE) AS `n_0`,
+    AVG(`v_0`) AS `mean_0`,
+    VAR_SAMP(`v_0`) AS `variance_0`
+  FROM `unit_segments`
+  GROUP BY
+    `arm_label`,
+    `segment_index`,
+    `segment`,
+    `segment_value`
+), `metric_list` AS (
+  SELECT
+    0 AS `metric_index`,
+    'spend' AS `metric`,
+    'mean' AS `kind`,
+    'primary' AS `role`,
+    'welch_t' AS `method`,
+    CAST(NULL AS DOUBLE) AS `sigma`,
+    CAST(NULL AS CHAR) AS `direction`,
+    CAST(NULL AS DOUBLE) AS `margin`,
+    CAST(NULL AS DOUBLE) AS `relative_margin`,
+    CAST(NULL AS DOUBLE) AS `target`
+), `per_arm` AS (
+  SELECT
+    `m`.`metric_index`,
+    `m`.`metric`,
+    `m`.`kind`,
+    `m`.`role`,
+    `m`.`method`,
+    `m`.`sigma`,
+    `m`.`direction`,
+    `m`.`margin`,
+    `m`.`relative_margin`,
+    `m`.`target`,
+    `s`.`segment_index`,
+    `s`.`segment`,
+    `s`.`segment_value`,
+    `s`.`arm_label` AS `arm`,
+    `s`.`units`,
+    CASE `m`.`metric_index` WHEN 0 THEN `s`.`n_0` END AS `n`,
+    CASE `m`.`metric_index` WHEN 0 THEN `s`.`mean_0` * `s`.`n_0` END AS `total`,
+    CASE `m`.`metric_index` WHEN 0 THEN `s`.`mean_0` END AS `mean`,
+    CASE `m`.`metric_index` WHEN 0 THEN `s`.`variance_0` END AS `variance`,
+    CASE `m`.`metric_index` WHEN 0 THEN CAST(0 AS DOUBLE) END AS `invalid`,
+    CAST(NULL AS DOUBLE) AS `x_n`,
+    CAST(NULL AS DOUBLE) AS `x_total`,
+    CAST(NULL AS DOUBLE) AS `x_mean`,
+    CAST(NULL AS DOUBLE) AS `x_variance`,
+    CAST(NULL AS DOUBLE) AS `xy_covariance`
+  FROM `arm_stats` AS `s`
+  CROSS JOIN `metric_list` AS `m`
+), `with_control` AS (
+  SELECT
+    `metric_index`,
+    `metric`,
+    `kind`,
+    `role`,
+    `method`,
+    `sigma`,
+    `direction`,
+    `margin`,
+    `relative_margin`,
+    `target`,
+    `segment_index`,
+    `segment`,
+    `segment_value`,
+    `arm`,
+    CASE WHEN `arm` = 'control' THEN 1 ELSE 0 END AS `is_control`,
+    `units`,
+    SUM(CASE WHEN `arm` IS NULL THEN `units` ELSE 0 END) OVER (PARTITION BY `metric_index`, `segment_index`, `segment_value`) AS `excluded_units`,
+    `n`,
+    `total`,
+    `mean`,
+    `variance`,
+    `invalid`,
+    `x_n`,
+    `x_total`,
+    `x_mean`,
+    `x_variance`,
+    `xy_covariance`,
+    MAX(CASE WHEN `arm` = 'control' THEN `n` END) OVER (PARTITION BY `metric_index`, `segment_index`, `segment_value`) AS `control_n`,
+    MAX(CASE WHEN `arm` = 'control' THEN `total` END) OVER (PARTITION BY `metric_index`, `segment_index`, `segment_value`) AS `control_total`,
+    MAX(CASE WHEN `arm` = 'control' THEN `mean` END) OVER (PARTITION BY `metric_index`, `segment_index`, `segment_value`) AS `control_mean`,
+    MAX(CASE WHEN `arm` = 'control' THEN `variance` END) OVER (PARTITION BY `metric_index`, `segment_index`, `segment_value`) AS `control_variance`,
+    MAX(CASE WHEN `arm` = 'control' THEN `x_n` END) OVER (PARTITION BY `metric_index`, `segment_index`, `segment_value`) AS `control_x_n`,
+    MAX(CASE WHEN `arm` = 'control' THEN `x_total` END) OVER (PARTITION BY `metric_index`, `segment_index`, `segment_value`) AS `control_x_total`,
+    MAX(CASE WHEN `arm` = 'control' THEN `x_mean` END) OVER (PARTITION BY `metric_index`, `segment_index`, `segment_value`) AS `control_x_mean`,
+    MAX(CASE WHEN `arm` = 'control' THEN `x_variance` END) OVER (PARTITION BY `metric_index`, `segment_index`, `segment_value`) AS `control_x_variance`,
+    MAX(CASE WHEN `arm` = 'control' THEN `xy_covariance` END) OVER (PARTITION BY `metric_index`, `segment_index`, `segment_value`) AS `control_xy_covariance`
+  FROM `per_arm`
+), `arm_values` AS (
+  SELECT
+    *,
+    1.0 / NULLIF(`n`, 0) AS `inv_n`,
+    1.0 / NULLIF(`control_n`, 0) AS `inv_control_n`,
+    CASE WHEN `kind` = 'ratio' THEN `total` / NULLIF(`x_total`, 0) ELSE `mean` END AS `value`,
+    CASE
+      WHEN `kind` = 'ratio'
+      THEN `control_total` / NULLIF(`control_x_total`, 0)
+      ELSE `control_mean`
+    END AS `control_value`,
+    CASE
+      WHEN `kind` = 'ratio'
+      THEN (
+        `n` - 1
+      ) * (
+        `variance` - 2 * (
+          `total` / NULLIF(`x_total`, 0)
+        ) * `xy_covariance` + (
+          `total` / NULLIF(`x_total`, 0)
+        ) * (
+          `total` / NULLIF(`x_total`, 0)
+        ) * `x_variance`
+      ) / NULLIF(`x_total` * `x_total`, 0)
+      ELSE `variance` / NULLIF(`n`, 0)
+    END AS `value_variance`,
+    CASE
+      WHEN `kind` = 'ratio'
+      THEN (
+        `control_n` - 1
+      ) * (
+        `control_variance` - 2 * (
+          `control_total` / NULLIF(`control_x_total`, 0)
+        ) * `control_xy_covariance` + (
+          `control_total` / NULLIF(`control_x_total`, 0)
+        ) * (
+          `control_total` / NULLIF(`control_x_total`, 0)
+        ) * `control_x_variance`
+      ) / NULLIF(`control_x_total` * `control_x_total`, 0)
+      ELSE `control_variance` / NULLIF(`control_n`, 0)
+    END AS `control_value_variance`,
+    (
+      `total` + `control_total`
+    ) / NULLIF(`n` + `control_n`, 0) AS `pooled_mean`,
+    (
+      (
+        `n` - 1
+      ) * `variance` + (
+        `control_n` - 1
+      ) * `control_variance`
+    ) / NULLIF(`n` + `control_n` - 2, 0) AS `pooled_variance`,
+    CASE
+      WHEN `method` = 'cuped_welch_t'
+      THEN (
+        (
+          `n` - 1
+        ) * `xy_covariance` + (
+          `control_n` - 1
+        ) * `control_xy_covariance`
+      ) / NULLIF((
+        `n` - 1
+      ) * `x_variance` + (
+        `control_n` - 1
+      ) * `control_x_variance`, 0)
+    END AS `theta`
+  FROM `with_control`
+  WHERE
+    NOT `arm` IS NULL
+), `adjusted` AS (
+  SELECT
+    *,
+    CASE
+      WHEN `method` = 'cuped_welch_t'
+      THEN (
+        `variance` - 2 * `theta` * `xy_covariance` + `theta` * `theta` * `x_variance`
+      ) / NULLIF(`n`, 0)
+    END AS `adjusted_variance_of_mean`,
+    CASE
+      WHEN `method` = 'cuped_welch_t'
+      THEN (
+        `control_variance` - 2 * `theta` * `control_xy_covariance` + `theta` * `theta` * `control_x_variance`
+      ) / NULLIF(`control_n`, 0)
+    END AS `control_adjusted_variance_of_mean`
+  FROM `arm_values`
+), `compared` AS (
+  SELECT
+    *,
+    CASE WHEN `is_control` = 0 THEN `value` - `control_value` END AS `difference`,
+    CASE
+      WHEN `is_control` = 1
+      THEN NULL
+      WHEN `method` = 'cuped_welch_t'
+      THEN (
+        `mean` - `control_mean`
+      ) - `theta` * (
+        `x_mean` - `control_x_mean`
+      )
+      ELSE `value` - `control_value`
+    END AS `estimate`,
+    CASE
+      WHEN `is_control` = 1
+      THEN NULL
+      WHEN `method` = 'two_proportion_z'
+      THEN SQRT(
+        CASE
+          WHEN `mean` * (
+            1 - `mean`
+          ) * `inv_n` + `control_mean` * (
+            1 - `control_mean`
+          ) * `inv_control_n` < 0
+          THEN NULL
+          ELSE `mean` * (
+            1 - `mean`
+          ) * `inv_n` + `control_mean` * (
+            1 - `control_mean`
+          ) * `inv_control_n`
+        END
+      )
+      WHEN `method` = 'z_known_sigma'
+      THEN `sigma` * SQRT(`inv_n` + `inv_control_n`)
+      WHEN `method` = 'student_t'
+      THEN SQRT(
+        CASE
+          WHEN `pooled_variance` * (
+            `inv_n` + `inv_control_n`
+          ) < 0
+          THEN NULL
+          ELSE `pooled_variance` * (
+            `inv_n` + `inv_control_n`
+          )
+        END
+      )
+      WHEN `method` = 'cuped_welch_t'
+      THEN SQRT(
+        CASE
+          WHEN `adjusted_variance_of_mean` + `control_adjusted_variance_of_mean` < 0
+          THEN NULL
+          ELSE `adjusted_variance_of_mean` + `control_adjusted_variance_of_mean`
+        END
+      )
+      ELSE SQRT(
+        CASE
+          WHEN `value_variance` + `control_value_variance` < 0
+          THEN NULL
+          ELSE `value_variance` + `control_value_variance`
+        END
+      )
+    END AS `std_error`,
+    CASE
+      WHEN `is_control` = 1
+      THEN NULL
+      WHEN `method` = 'two_proportion_z'
+      THEN SQRT(
+        CASE
+          WHEN `pooled_mean` * (
+            1 - `pooled_mean`
+          ) * (
+            `inv_n` + `inv_control_n`
+          ) < 0
+          THEN NULL
+          ELSE `pooled_mean` * (
+            1 - `pooled_mean`
+          ) * (
+            `inv_n` + `inv_control_n`
+          )
+        END
+      )
+      WHEN `method` = 'z_known_sigma'
+      THEN `sigma` * SQRT(`inv_n` + `inv_control_n`)
+      WHEN `method` = 'student_t'
+      THEN SQRT(
+        CASE
+          WHEN `pooled_variance` * (
+            `inv_n` + `inv_control_n`
+          ) < 0
+          THEN NULL
+          ELSE `pooled_variance` * (
+            `inv_n` + `inv_control_n`
+          )
+        END
+      )
+      WHEN `method` = 'cuped_welch_t'
+      THEN SQRT(
+        CASE
+          WHEN `adjusted_variance_of_mean` + `control_adjusted_variance_of_mean` < 0
+          THEN NULL
+          ELSE `adjusted_variance_of_mean` + `control_adjusted_variance_of_mean`
+        END
+      )
+      ELSE SQRT(
+        CASE
+          WHEN `value_variance` + `control_value_variance` < 0
+          THEN NULL
+          ELSE `value_variance` + `control_value_variance`
+        END
+      )
+    END AS `null_std_error`,
+    CASE
+      WHEN `is_control` = 1
+      THEN NULL
+      WHEN `method` = 'welch_t'
+      THEN (
+        `value_variance` + `control_value_variance`
+      ) * (
+        `value_variance` + `control_value_variance`
+      ) / NULLIF(
+        `value_variance` * `value_variance` / NULLIF(`n` - 1, 0) + `control_value_variance` * `control_value_variance` / NULLIF(`control_n` - 1, 0),
+        0
+      )
+      WHEN `method` = 'cuped_welch_t'
+      THEN (
+        `adjusted_variance_of_mean` + `control_adjusted_variance_of_mean`
+      ) * (
+        `adjusted_variance_of_mean` + `control_adjusted_variance_of_mean`
+      ) / NULLIF(
+        `adjusted_variance_of_mean` * `adjusted_variance_of_mean` / NULLIF(`n` - 1, 0) + `control_adjusted_variance_of_mean` * `control_adjusted_variance_of_mean` / NULLIF(`control_n` - 1, 0),
+        0
+      )
+      WHEN `method` = 'student_t'
+      THEN NULLIF(`n` + `control_n` - 2, 0)
+    END AS `df`,
+    CASE
+      WHEN `method` = 'cuped_welch_t' AND `is_control` = 0
+      THEN 1 - (
+        `adjusted_variance_of_mean` + `control_adjusted_variance_of_mean`
+      ) / NULLIF(`variance` / NULLIF(`n`, 0) + `control_variance` / NULLIF(`control_n`, 0), 0)
+    END AS `variance_reduction`,
+    CASE
+      WHEN `target` IS NULL
+      THEN NULL
+      WHEN `kind` = 'proportion'
+      THEN (
+        `value` - `target`
+      ) / NULLIF(SQRT(`target` * (
+        1 - `target`
+      ) * `inv_n`), 0)
+      ELSE (
+        `value` - `target`
+      ) / NULLIF(SQRT(CASE WHEN `value_variance` < 0 THEN NULL ELSE `value_variance` END), 0)
+    END AS `target_statistic`,
+    CASE WHEN NOT `target` IS NULL AND `kind` = 'mean' THEN `n` - 1 END AS `target_df`
+  FROM `adjusted`
+), `lifted` AS (
+  SELECT
+    *,
+    `estimate` / NULLIF(`control_value`, 0) AS `relative_lift`,
+    SQRT(
+      CASE
+        WHEN `std_error` * `std_error` / NULLIF(`control_value` * `control_value`, 0) + `estimate` * `estimate` * `control_value_variance` / NULLIF(`control_value` * `control_value` * `control_value` * `control_value`, 0) + 2 * `estimate` * `control_value_variance` / NULLIF(`control_value` * `control_value` * `control_value`, 0) < 0
+        THEN NULL
+        ELSE `std_error` * `std_error` / NULLIF(`control_value` * `control_value`, 0) + `estimate` * `estimate` * `control_value_variance` / NULLIF(`control_value` * `control_value` * `control_value` * `control_value`, 0) + 2 * `estimate` * `control_value_variance` / NULLIF(`control_value` * `control_value` * `control_value`, 0)
+      END
+    ) AS `lift_std_error`
+  FROM `compared`
+), `sequential` AS (
+  SELECT
+    *,
+    CAST(NULL AS DOUBLE) AS `mixing_variance`,
+    CAST(NULL AS DOUBLE) AS `sequential_variance`
+  FROM `lifted`
+), `monitored` AS (
+  SELECT
+    *,
+    CASE
+      WHEN `sequential_variance` > 0 AND `mixing_variance` > 0
+      THEN 0.5 * LN(`sequential_variance` / (
+        `sequential_variance` + `mixing_variance`
+      )) + `mixing_variance` * `estimate` * `estimate` / (
+        2 * `sequential_variance` * (
+          `sequential_variance` + `mixing_variance`
+        )
+      )
+    END AS `log_likelihood_ratio`,
+    CASE
+      WHEN `sequential_variance` > 0 AND `mixing_variance` > 0
+      THEN SQRT(
+        `sequential_variance` * (
+          `sequential_variance` + `mixing_variance`
+        ) / `mixing_variance` * (
+          2 * LN(1 / 0.05) + LN((
+            `sequential_variance` + `mixing_variance`
+          ) / `sequential_variance`)
+        )
+      )
+    END AS `sequence_half_width`
+  FROM `sequential`
+), `result` AS (
+  SELECT
+    `metric_index`,
+    `metric`,
+    `kind`,
+    `role`,
+    `method`,
+    `segment_index`,
+    `segment`,
+    `segment_value`,
+    `arm`,
+    `is_control`,
+    `units`,
+    `excluded_units`,
+    `n`,
+    `total`,
+    `mean`,
+    `variance`,
+    `invalid`,
+    `x_n`,
+    `x_total`,
+    `x_mean`,
+    `x_variance`,
+    `xy_covariance`,
+    `value`,
+    SQRT(`value_variance`) AS `value_std_error`,
+    `control_n`,
+    `control_total`,
+    `control_mean`,
+    `control_variance`,
+    `control_value`,
+    SQRT(`control_value_variance`) AS `control_value_std_error`,
+    `difference`,
+    `estimate`,
+    `std_error`,
+    `null_std_error`,
+    `estimate` / NULLIF(`null_std_error`, 0) AS `statistic`,
+    `df`,
+    `theta`,
+    `variance_reduction`,
+    `relative_lift`,
+    `lift_std_error`,
+    `direction`,
+    `margin`,
+    `relative_margin`,
+    CASE
+      WHEN `is_control` = 1
+      THEN NULL
+      WHEN NOT `margin` IS NULL AND `direction` = 'higher'
+      THEN (
+        `estimate` + `margin`
+      ) / NULLIF(`std_error`, 0)
+      WHEN NOT `margin` IS NULL AND `direction` = 'lower'
+      THEN (
+        `margin` - `estimate`
+      ) / NULLIF(`std_error`, 0)
+      WHEN NOT `relative_margin` IS NULL AND `direction` = 'higher'
+      THEN (
+        `relative_lift` + `relative_margin`
+      ) / NULLIF(`lift_std_error`, 0)
+      WHEN NOT `relative_margin` IS NULL AND `direction` = 'lower'
+      THEN (
+        `relative_margin` - `relative_lift`
+      ) / NULLIF(`lift_std_error`, 0)
+    END AS `margin_statistic`,
+    `target`,
+    `target_statistic`,
+    `target_df`
+  FROM `monitored`
+)
+SELECT
+  `metric_index`,
+  `metric`,
+  `kind`,
+  `role`,
+  `method`,
+  `segment_index`,
+  `segment`,
+  `segment_value`,
+  `arm`,
+  `is_control`,
+  `units`,
+  `excluded_units`,
+  `n`,
+  `total`,
+  `mean`,
+  `variance`,
+  `invalid`,
+  `x_n`,
+  `x_total`,
+  `x_mean`,
+  `x_variance`,
+  `xy_covariance`,
+  `value`,
+  `value_std_error`,
+  `control_n`,
+  `control_total`,
+  `control_mean`,
+  `control_variance`,
+  `control_value`,
+  `control_value_std_error`,
+  `difference`,
+  `estimate`,
+  `std_error`,
+  `null_std_error`,
+  `statistic`,
+  `df`,
+  `theta`,
+  `variance_reduction`,
+  `relative_lift`,
+  `lift_std_error`,
+  `direction`,
+  `margin`,
+  `relative_margin`,
+  `margin_statistic`,
+  `target`,
+  `target_statistic`,
+  `target_df`
+FROM `result`
+ORDER BY
+  CASE WHEN `metric_index` IS NULL THEN 1 ELSE 0 END, `metric_index`,
+  CASE WHEN `segment_index` IS NULL THEN 1 ELSE 0 END, `segment_index`,
+  CASE WHEN `segment_value` IS NULL THEN 1 ELSE 0 END, `segment_value`,
+  `is_control` DESC,
+  CASE WHEN `arm` IS NULL THEN 1 ELSE 0 END, `arm`
