@@ -59,6 +59,7 @@ class Relation:
     arm: exp.Column | None = None  # only the assignment has an arm column
     per_unit: bool = False  # the source promises one row per unit: no per-unit regroup
     where: exp.Expression | None = None  # row filter, validated
+    time: exp.Column | None = None  # when a row happened (assignment: entry; events: the event), daily view
 
 
 @dataclass(frozen=True, eq=False)
@@ -133,6 +134,7 @@ class Experiment:
         default_factory=lambda: {"primary": "none", "secondary": "bh", "guardrail": "none", "segment": "bh"}
     )
     power: float = 0.8  # planning default
+    daily: bool = False  # also offer the daily cumulative view (compile.compile_daily)
     spec_path: Path | None = None
     notes: tuple[str, ...] = field(default_factory=tuple)
 
