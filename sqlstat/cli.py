@@ -88,6 +88,8 @@ def sql(
     spec: Path = SPEC,
     dialect: str = typer.Option("duckdb", "--dialect", "-d", help="Target SQL dialect (see `sqlstat dialects`)."),
     output: Optional[Path] = typer.Option(None, "--output", "-o", help="Write the SQL to this file (atomically)."),
+    daily: bool = typer.Option(False, "--daily", help="The daily cumulative view instead: the readout as of each day "
+                               "(the spec needs daily = true and time columns)."),
     force: bool = FORCE,
     debug: bool = DEBUG,
 ) -> None:
@@ -95,7 +97,7 @@ def sql(
     try:
         from . import api
 
-        _emit(api.sql(spec, dialect), output, (".sql",), force)
+        _emit((api.daily_sql if daily else api.sql)(spec, dialect), output, (".sql",), force)
     except Exception as err:  # noqa: BLE001
         _fail(err, debug)
 

@@ -241,6 +241,8 @@ def compile_sql(experiment: Experiment, dialect: str = "duckdb", *, pretty: bool
 # Columns of the daily view: the day, then exactly the main query's columns and meaning,
 # one row per (day, metric, arm).
 DAILY_COLUMNS = ("day",) + RESULT_COLUMNS
+# Arms the daily view keeps apart (by label order); units of further arms count as excluded.
+DAILY_MAX_ARMS = 63
 
 
 class _DailyStates:
@@ -328,6 +330,7 @@ def render_daily(experiment: Experiment, dialect: str | Dialect = "duckdb") -> s
         "pairs": pairs,
         "metrics": metrics,
         "control": _literal(experiment.control),
+        "max_arms": DAILY_MAX_ARMS,
     }
     return _environment().get_template("daily.sql.j2").render(**context)
 
