@@ -116,6 +116,10 @@ METRICS = {
                    lambda r: _max([e[1] for e in r]), "exclude"),
     "mean_amount": ('kind = "mean"\nvalue = "avg(amount)"\nmissing = "exclude"',
                     lambda r: _avg([e[1] for e in r]), "exclude"),
+    # A large offset against a small spread: the case that breaks unshifted sums of squares.
+    "offset_top": ('kind = "mean"\nvalue = "max(amount) + 100000"\nmissing = "exclude"',
+                   lambda r: None if _max([e[1] for e in r]) is None else _max([e[1] for e in r]) + 100_000,
+                   "exclude"),
     "mixed": ('kind = "mean"\nvalue = "count_if(amount > 20) + 0.5 * count(*)"',
               lambda r: _count_if(e[1] is not None and e[1] > 20 for e in r) + 0.5 * len(r), "zero"),
 }
@@ -413,11 +417,12 @@ def test_every_day_matches_numpy_and_scipy(engine, expected):
                 assert (r["segment_index"], r["segment"], r["segment_value"]) == (0, None, "(all)")
                 if fn is None:
                     continue
+                who = engine.name if metric != "offset_top" else f"{engine.name}, offset_top"
                 x = ref["values"][metric][arm]
                 assert r["n"] == x.size
-                check(engine.name, r["mean"], float(x.mean()) if x.size else None)
-                check(engine.name, r["variance"], _var(x))
-                check(engine.name, r["total"], math.fsum(x) if x.size else None)
+                check(who, r["mean"], float(x.mean()) if x.size else None)
+                check(who, r["variance"], _var(x))
+                check(who, r["total"], math.fsum(x) if x.size else None)
                 if arm == "control":
                     continue
                 c = ref["values"][metric]["control"]
@@ -425,13 +430,13 @@ def test_every_day_matches_numpy_and_scipy(engine, expected):
                     pooled = (x.sum() + c.sum()) / (x.size + c.size) if x.size + c.size else 0.0
                     if x.size and c.size and 0 < pooled < 1:
                         z, _ = proportions_ztest([x.sum(), c.sum()], [x.size, c.size])  # reference: statsmodels
-                        check(engine.name, r["statistic"], float(z))
+                        check(who, r["statistic"], float(z))
                     continue
                 if x.size > 1 and c.size > 1 and (_var(x) or 0) + (_var(c) or 0) > 0:
                     ref_t = sps.ttest_ind(x, c, equal_var=False)  # reference: scipy, Welch
-                    check(engine.name, r["statistic"], float(ref_t.statistic))
-                    check(engine.name, r["df"], float(ref_t.df))
-                    check(engine.name, r["estimate"], float(x.mean() - c.mean()))
+                    check(who, r["statistic"], float(ref_t.statistic))
+                    check(who, r["df"], float(ref_t.df))
+                    check(who, r["estimate"], float(x.mean() - c.mean()))
                 else:
                     assert r["statistic"] is None
 
@@ -479,7 +484,7 @@ def test_last_day_is_the_main_query(engine):
         for col in RESULT_COLUMNS:
             want = row[col]
             if isinstance(want, float):
-                check(engine.name, got[col], want)
+                check(engine.name if row["metric"] != "offset_top" else f"{engine.name}, offset_top", got[col], want)
             else:
                 assert got[col] == want, col
 
