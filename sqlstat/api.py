@@ -49,6 +49,13 @@ def sql_folder(spec: str | Path | Experiment, folder: str | Path, *, view: str |
     return written, skipped
 
 
+def daily_sql(spec: str | Path | Experiment, dialect: str = "duckdb", *, pretty: bool = True) -> str:
+    """The daily cumulative view: one SELECT giving the readout as of each day (needs daily = true)."""
+    from .compile import compile_daily
+
+    return compile_daily(_experiment(spec), dialect, pretty=pretty)
+
+
 def analyse(spec: str | Path | Experiment, rows: Iterable[dict[str, Any]]) -> "Analysis":
     """Turn rows that the compiled query returned (from anywhere) into an Analysis."""
     from .stats import analyse as _analyse

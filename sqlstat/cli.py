@@ -94,6 +94,8 @@ def sql(
     folder: Optional[Path] = typer.Option(
         None, "--folder", help="Write one file per dialect into this folder (<experiment>.<dialect>.sql)."
     ),
+    daily: bool = typer.Option(False, "--daily", help="The daily cumulative view instead: the readout as of each day "
+                               "(the spec needs daily = true and time columns)."),
     force: bool = FORCE,
     debug: bool = DEBUG,
 ) -> None:
@@ -107,6 +109,9 @@ def sql(
                 typer.echo(f"wrote {path}")
             for name, why in skipped.items():
                 typer.echo(f"skipped {name}: {why}", err=True)
+            return
+        if daily:
+            _emit(api.daily_sql(spec, dialect), output, (".sql",), force)
             return
         _emit(api.sql(spec, dialect, view=as_view), output, (".sql",), force)
     except Exception as err:  # noqa: BLE001

@@ -17,7 +17,7 @@ from sqlglot import exp
 
 from .dialects import DIALECTS, Dialect, finish, finish_view, get_dialect, prepare
 from .errors import CompileError
-from .expressions import CANONICAL, is_predicate
+from .expressions import AGGREGATES, CANONICAL, is_predicate
 from .model import Experiment, Metric, Relation, Source
 
 # Columns of every row the query returns, one row per (metric, arm), in this order.
@@ -348,3 +348,113 @@ def compile_all(experiment: Experiment, *, view: str | None = None) -> tuple[dic
         except CompileError as err:
             skipped[name] = str(err)
     return done, skipped
+
+
+# --- The daily cumulative view -------------------------------------------------------
+
+# Columns of the daily view: the day, then exactly the main query's columns and meaning,
+# one row per (day, metric, arm).
+DAILY_COLUMNS = ("day",) + RESULT_COLUMNS
+# Arms the daily view keeps apart (by label order); units of further arms count as excluded.
+DAILY_MAX_ARMS = 63
+
+
+class _DailyStates:
+    """Per-unit running states behind a metric's aggregates, and its value rebuilt from them.
+
+    Each aggregate of a value becomes state columns that accumulate day by day: count(...)
+    a running sum of counts, sum(x) a running sum plus a running count of non-NULL x (the
+    sum of no values is NULL), avg(x) the same two, min/max a running min/max. Identical
+    aggregates share their states.
+    """
+
+    def __init__(self, dialect: Dialect) -> None:
+        self.dialect = dialect
+        self.states: list[dict] = []
+        self._by_inc: dict[str, str] = {}
+
+    def _state(self, inc: exp.Expression, fn: str) -> str:
+        text = _fragment(inc, self.dialect, measure=True)
+        if text not in self._by_inc:
+            name = str(len(self.states))
+            self._by_inc[text] = name
+            self.states.append({"name": name, "inc": text, "fn": fn})
+        return self._by_inc[text]
+
+    def _replacement(self, agg: exp.Expression, side: str) -> exp.Expression:
+        def col(name: str) -> exp.Column:
+            return exp.column(f"{side}_{name}")
+
+        if isinstance(agg, exp.Count):
+            if isinstance(agg.this, exp.Distinct):
+                raise CompileError("count(DISTINCT ...) cannot be accumulated day by day; drop daily = true")
+            return col(self._state(agg, "SUM"))
+        if isinstance(agg, (exp.Sum, exp.Avg)):
+            total = col(self._state(exp.Sum(this=agg.this.copy()), "SUM"))
+            count = col(self._state(exp.Count(this=agg.this.copy()), "SUM"))
+            value: exp.Expression = total
+            if isinstance(agg, exp.Avg):
+                value = exp.Div(this=exp.cast(total, "DOUBLE"), expression=count)
+            return exp.Paren(this=exp.Case(
+                ifs=[exp.If(this=exp.GT(this=count.copy(), expression=exp.Literal.number(0)), true=value)]
+            ))
+        if isinstance(agg, (exp.Min, exp.Max)):
+            return col(self._state(agg, "MIN" if isinstance(agg, exp.Min) else "MAX"))
+        raise CompileError(f"internal error: no daily state for {_sql(agg)}")
+
+    def value(self, node: exp.Expression, side: str) -> str:
+        """The per-unit value with every aggregate replaced by its ``side`` ("after"/"before") state."""
+        def swap(n: exp.Expression) -> exp.Expression:
+            return self._replacement(n, side) if isinstance(n, tuple(AGGREGATES)) else n
+
+        return _value_sql(node.copy().transform(swap), self.dialect)
+
+
+def render_daily(experiment: Experiment, dialect: str | Dialect = "duckdb") -> str:
+    """The daily cumulative view in canonical DuckDB SQL (see templates/daily.sql.j2)."""
+    d = dialect if isinstance(dialect, Dialect) else get_dialect(dialect)
+    if not experiment.daily:
+        raise CompileError(
+            "the spec does not ask for the daily view: add daily = true under [experiment], with 'time' "
+            "in [assignment] (when a unit entered) and in [events] (when an event happened)"
+        )
+    events = experiment.events
+    if events is None or events.time is None or experiment.assignment.time is None or events.per_unit:
+        raise CompileError("the daily view needs [events] (not per_unit) and 'time' in [assignment] and [events]")
+    if experiment.segments or any(m.covariate is not None for m in experiment.metrics):
+        raise CompileError("the daily view supports neither segments nor CUPED covariates")
+    _, pairs, metrics = _measures(experiment, d)
+    states = _DailyStates(d)
+    measures: list[dict] = []
+    for m in experiment.metrics:
+        for node, missing in ((m.value, m.missing), (m.denominator, "zero")):
+            if node is not None:
+                measures.append({
+                    "key": str(len(measures)),
+                    "after": states.value(node, "after"),
+                    "before": states.value(node, "before"),
+                    "missing": missing,
+                    "check_binary": node is m.value and m.kind == "proportion",
+                })
+    assert [x["key"] for x in measures] == [str(i) for i in range(len(measures))]
+    context = {
+        "assignment": {**_relation(experiment.assignment, d), "time": _fragment(experiment.assignment.time, d)},
+        "events": {**_relation(events, d), "time": _fragment(events.time, d)},
+        "states": states.states,
+        "measures": measures,
+        "pairs": pairs,
+        "metrics": metrics,
+        "control": _literal(experiment.control),
+        "max_arms": DAILY_MAX_ARMS,
+    }
+    return _environment().get_template("daily.sql.j2").render(**context)
+
+
+def compile_daily(experiment: Experiment, dialect: str | Dialect = "duckdb", *, pretty: bool = True) -> str:
+    """Compile the daily cumulative view: one read-only SELECT in ``dialect``.
+
+    One row per (day, metric, arm) for every day on which a unit entered or an event
+    happened, holding the readout as of the end of that day (columns: DAILY_COLUMNS).
+    """
+    d = dialect if isinstance(dialect, Dialect) else get_dialect(dialect)
+    return _finish(render_daily(experiment, d), d, pretty)

@@ -59,6 +59,7 @@ class Relation:
     arm: exp.Column | None = None  # only the assignment has an arm column
     per_unit: bool = False  # the source promises one row per unit: no per-unit regroup
     where: exp.Expression | None = None  # row filter, validated
+    time: exp.Column | None = None  # when a row happened (assignment: entry; events: the event), daily view
 
 
 @dataclass(frozen=True, eq=False)
@@ -135,6 +136,7 @@ class Experiment:
     power: float = 0.8  # planning default
     always_valid: bool = False  # add always-valid p-values and confidence sequences (mSPRT)
     mixing_sd: float = 0.05  # mSPRT mixing standard deviation, as a share of the control value
+    daily: bool = False  # also offer the daily cumulative view (compile.compile_daily)
     spec_path: Path | None = None
     notes: tuple[str, ...] = field(default_factory=tuple)
 

@@ -14,6 +14,8 @@ import tomllib
 from pathlib import Path
 from typing import Any
 
+from sqlglot import exp
+
 from . import expressions as ex
 from .errors import Problem, SpecError
 from .model import (
@@ -22,10 +24,10 @@ from .model import (
 
 EXPERIMENT_KEYS = (
     "name", "control", "alpha", "weights", "arms", "sample_ratio_alpha", "segments", "correction",
-    "power", "always_valid", "mixing_sd", "description",
+    "power", "always_valid", "mixing_sd", "description", "daily",
 )
-ASSIGNMENT_KEYS = ("source", "unit", "arm", "per_unit", "where")
-EVENTS_KEYS = ("source", "unit", "per_unit", "where")
+ASSIGNMENT_KEYS = ("source", "unit", "arm", "per_unit", "where", "time")
+EVENTS_KEYS = ("source", "unit", "per_unit", "where", "time")
 METRIC_KEYS = (
     "name", "kind", "value", "numerator", "denominator", "sigma", "equal_variance", "missing",
     "cuped", "covariate", "role", "better", "margin", "relative_margin", "target", "description",
@@ -178,9 +180,10 @@ class _Checker:
                     where = ex.parse_filter(text, "where")
                 except ex.ExpressionProblem as err:
                     self.add(f"{path}.where", str(err))
+        time = self.column(table, "time", path) if "time" in table else None
         if src is None or unit is None or (with_arm and arm is None):
             return None
-        return Relation(src, unit, arm, per_unit, where)
+        return Relation(src, unit, arm, per_unit, where, time=time)
 
     def probability(self, table: dict, key: str, path: str, default: float) -> float:
         value = table.get(key, default)
@@ -434,6 +437,7 @@ def parse_spec(text: str, base_dir: str | Path = ".", file: str | None = None) -
     mixing_sd = c.number(exp_t, "mixing_sd", "experiment", positive=True)
     if mixing_sd is not None and not always_valid:
         c.add("experiment.mixing_sd", "'mixing_sd' tunes always-valid results; set always_valid = true too")
+    daily = c.boolean(exp_t, "daily", "experiment")
 
     pre_t = c.table(doc, "pre_period", required=False)
     pre_period = c.pre_period(pre_t) if pre_t is not None else None
@@ -481,6 +485,9 @@ def parse_spec(text: str, base_dir: str | Path = ".", file: str | None = None) -
 
             metrics[0] = replace(metrics[0], role="primary")
 
+    if daily:
+        _check_daily(c, asg_t, ev_t, raw_metrics if isinstance(raw_metrics, list) else [], metrics, bool(segments))
+
     if c.problems:
         raise SpecError(c.problems, file)
     assert name is not None and control is not None and assignment is not None
@@ -500,5 +507,51 @@ def parse_spec(text: str, base_dir: str | Path = ".", file: str | None = None) -
         power=power,
         always_valid=always_valid,
         mixing_sd=mixing_sd if mixing_sd is not None else 0.05,
+        daily=daily,
         spec_path=Path(file) if file else None,
     )
+
+
+# Aggregates whose value up to day d follows from running per-unit state (sums, counts,
+# running min/max). count(DISTINCT ...) does not: a value seen on two days counts once.
+DAILY_AGGREGATES = ("count", "count_if", "sum", "avg", "min", "max")
+
+
+def _check_daily(c: _Checker, asg_t: dict | None, ev_t: dict | None, raw_metrics: list, metrics: list[Metric],
+                 has_segments: bool) -> None:
+    """Problems that stop the daily cumulative view (``daily = true``) from being compiled."""
+    if isinstance(asg_t, dict) and "time" not in asg_t:
+        c.add("assignment", "the daily view (daily = true) needs 'time' in [assignment]: the column saying when "
+                            "each unit entered the experiment, e.g. time = \"assigned_at\"")
+    if ev_t is None:
+        c.add("experiment.daily", "the daily view (daily = true) needs an [events] table with a 'time' column; "
+                                  "metrics computed from the assignment rows have no days to accumulate over")
+    else:
+        if "time" not in ev_t:
+            c.add("events", "the daily view (daily = true) needs 'time' in [events]: the column saying when each "
+                            "event happened, e.g. time = \"happened_at\"")
+        if ev_t.get("per_unit") is True:
+            c.add("events.per_unit", "the daily view accumulates each unit's event rows day by day; per_unit = true "
+                                     "sources have one row per unit and no days to accumulate (drop one of them)")
+    if has_segments:
+        c.add("experiment.segments", "the daily view does not break results down by segment; drop 'segments' or "
+                                     "'daily = true'")
+    for m in metrics:
+        path = f"metric[{m.index + 1}]"
+        table = raw_metrics[m.index] if m.index < len(raw_metrics) and isinstance(raw_metrics[m.index], dict) else {}
+        if m.covariate is not None:
+            key = "cuped" if "cuped" in table else "covariate"
+            c.add(f"{path}.{key}", "CUPED is not available in the daily view (the covariate adjustment is fitted "
+                                   "once, at the end); drop it or drop 'daily = true'")
+        if m.kind == "ratio" and m.missing == "exclude":
+            c.add(f"{path}.missing", "the daily view of a ratio metric needs missing = \"zero\" (units without "
+                                     "events count with 0 in numerator and denominator)")
+        for key, node in (("numerator" if m.kind == "ratio" else "value", m.value), ("denominator", m.denominator)):
+            if node is None:
+                continue
+            for agg in node.find_all(exp.Count):
+                if isinstance(agg.this, exp.Distinct):
+                    c.add(f"{path}.{key}", f"count(DISTINCT ...) cannot be accumulated day by day in the daily "
+                                           f"view (a value seen on two days must count once); use one of "
+                                           f"{', '.join(DAILY_AGGREGATES)}, or drop 'daily = true'")
+                    break
