@@ -19,6 +19,7 @@ from .dialects import Dialect, finish, get_dialect
 from .errors import CompileError
 from .expressions import CANONICAL, is_predicate
 from .model import Experiment, Metric, Relation, Source
+from .readonly import check_read_only, declared_sources
 
 # Columns of every row the query returns, one row per (metric, arm), in this order.
 RESULT_COLUMNS = (
@@ -137,4 +138,8 @@ def compile_sql(experiment: Experiment, dialect: str = "duckdb", *, pretty: bool
         raise CompileError(f"internal error: the rendered query does not parse: {err}") from err
     if len(statements) != 1 or not isinstance(statements[0], exp.Select):
         raise CompileError("internal error: the rendered query is not exactly one SELECT")
-    return finish(statements[0], d, pretty=pretty) + "\n"
+    text = finish(statements[0], d, pretty=pretty) + "\n"
+    # Last step, on the exact text handed out: prove it only reads what the spec declared.
+    tables, files = declared_sources(experiment, d, lambda src: _display_path(src.path))
+    check_read_only(text, d, tables=tables, files=files)
+    return text
