@@ -11,6 +11,7 @@ return. The text is parsed back by sqlglot in the target dialect and walked node
   a table name shaped like a file path is never a table;
 * the only table functions are the file readers of declared file sources (engines that
   read files, i.e. DuckDB), each called on exactly one declared path;
+* no comments (MySQL runs ``/*! ... */`` as code);
 * every function is one sqlglot knows, or one of the few names sqlstat itself emits
   (the dialect's renames): an unknown function could do anything.
 
@@ -29,6 +30,7 @@ from sqlglot.optimizer.normalize_identifiers import normalize_identifiers
 
 from .dialects import Dialect
 from .errors import CompileError
+from .expressions import looks_like_path
 from .model import Experiment, Source
 
 # Anything that is not a pure read. Names are looked up with getattr so an older or newer
@@ -53,15 +55,6 @@ FILE_READERS = frozenset({"read_parquet", "read_csv_auto", "read_csv", "read_jso
 
 class ReadOnlyViolation(CompileError):
     """The emitted query would do more than read the declared sources."""
-
-
-def looks_like_path(name: str) -> bool:
-    """True for a table-name part that an engine might take as a file or URL.
-
-    DuckDB reads ``FROM "data.csv"`` as a file when no such table exists, and Spark reads
-    ``parquet.`/dir```; a dot, slash, backslash or colon inside one name part is refused.
-    """
-    return any(ch in name for ch in "./\\:")
 
 
 def _table_key(table: exp.Table) -> tuple[str, ...]:
@@ -158,6 +151,9 @@ def check_read_only(
     allowed_anonymous = {name.lower() for name in dialect.renames.values()}
 
     for node in tree.walk():
+        if node.comments:
+            # sqlstat emits no comments; MySQL runs /*! ... */ and hint comments steer planners.
+            raise ReadOnlyViolation(f"{where} contains a comment, which sqlstat never emits")
         if isinstance(node, exp.Table):
             target = node.this
             if isinstance(target, exp.Func):

@@ -24,6 +24,17 @@ METRIC_KEYS = ("name", "kind", "value", "sigma", "equal_variance", "missing", "d
 TOP_KEYS = ("experiment", "assignment", "events", "metric")
 FILE_SUFFIXES = (".parquet", ".csv", ".csv.gz", ".tsv", ".json", ".jsonl", ".ndjson")
 _NAME = re.compile(r"^[A-Za-z_][A-Za-z0-9_.\-]{0,99}$")
+MAX_LABEL_CHARS = 200  # arm labels and the experiment name: printed in every readout
+
+
+def _label_problem(value: str, what: str) -> str | None:
+    """Why a label (arm, experiment name) cannot be used, or None when it is fine."""
+    if len(value) > MAX_LABEL_CHARS:
+        return f"{what} is {len(value):,} characters long; the limit is {MAX_LABEL_CHARS}"
+    bad = ex.invisible_characters(value)
+    if bad:
+        return f"{what} contains control or invisible characters ({', '.join(bad)}); they would garble readouts"
+    return None
 
 
 class _Locator:
@@ -250,11 +261,17 @@ def parse_spec(text: str, base_dir: str | Path = ".", file: str | None = None) -
     exp_t = c.table(doc, "experiment", required=True) or {}
     c.unknown_keys(exp_t, EXPERIMENT_KEYS, "experiment")
     name = c.string(exp_t, "name", "experiment")
+    if name is not None and (why := _label_problem(name, "the experiment name")):
+        c.add("experiment.name", why)
+        name = None
     control = exp_t.get("control")
     if control is None:
         c.add("experiment", "missing required key 'control' (the label of the control arm)")
     elif isinstance(control, bool) or not isinstance(control, (str, int)) or str(control).strip() == "":
         c.add("experiment.control", "'control' must be the control arm's label (a string or an integer)")
+        control = None
+    elif why := _label_problem(str(control), "the control label"):
+        c.add("experiment.control", why)
         control = None
     else:
         control = str(control)
@@ -270,6 +287,8 @@ def parse_spec(text: str, base_dir: str | Path = ".", file: str | None = None) -
             c.add("experiment.arms", "'arms' has an empty arm label; every arm needs a name")
         elif len({str(a) for a in raw}) != len(raw):
             c.add("experiment.arms", "'arms' lists a label twice")
+        elif any(_label_problem(str(a), "an arm label") for a in raw):
+            c.add("experiment.arms", next(w for a in raw if (w := _label_problem(str(a), "an arm label"))))
         else:
             arms = tuple(str(a) for a in raw)
 
@@ -280,6 +299,8 @@ def parse_spec(text: str, base_dir: str | Path = ".", file: str | None = None) -
             c.add("experiment.weights", "'weights' must map at least two arm labels to their planned shares")
         elif any(str(k).strip() == "" for k in raw):
             c.add("experiment.weights", "'weights' has an empty arm label; every arm needs a name")
+        elif any(_label_problem(str(k), "an arm label") for k in raw):
+            c.add("experiment.weights", next(w for k in raw if (w := _label_problem(str(k), "an arm label"))))
         else:
             bad = [k for k, v in raw.items() if isinstance(v, bool) or not isinstance(v, (int, float)) or not (v > 0 and math.isfinite(v))]
             if bad:
