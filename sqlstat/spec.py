@@ -360,3 +360,66 @@ def parse_spec(text: str, base_dir: str | Path = ".", file: str | None = None) -
         sample_ratio_alpha=srm_alpha,
         spec_path=Path(file) if file else None,
     )
+
+
+def _file_columns(path: Path) -> list[str]:
+    """Column names of a data file, read by DuckDB (DESCRIBE); DuckDB is imported only here."""
+    import duckdb
+    from sqlglot import exp
+
+    name = path.name.lower()
+    reader = "read_parquet" if name.endswith(".parquet") else (
+        "read_json_auto" if name.endswith((".json", ".jsonl", ".ndjson")) else "read_csv_auto"
+    )
+    literal = exp.Literal.string(str(path)).sql("duckdb")
+    with duckdb.connect() as con:
+        return [row[0] for row in con.execute(f"DESCRIBE SELECT * FROM {reader}({literal})").fetchall()]
+
+
+def check_columns(experiment: Experiment, text: str | None = None) -> None:
+    """Check every column the spec names against the columns of its file sources.
+
+    Only file sources can be inspected without a database connection; table and query
+    sources are left to the engine. Raises one SpecError listing every unknown column,
+    with the nearest existing name. Opt-in (``sqlstat check --columns``) and done by
+    ``sqlstat run`` on DuckDB, because it reads the files.
+    """
+    file = str(experiment.spec_path) if experiment.spec_path else None
+    if text is None and experiment.spec_path is not None and experiment.spec_path.is_file():
+        text = experiment.spec_path.read_text(encoding="utf-8")
+    c = _Checker(text or "", Path("."))
+    value_rel = "events" if experiment.events is not None else "assignment"
+    uses: dict[str, list[tuple[str, Any]]] = {"assignment": [], "events": []}
+    for path, rel in (("assignment", experiment.assignment), ("events", experiment.events)):
+        if rel is None:
+            continue
+        uses[path] += [(f"{path}.unit", rel.unit)]
+        if rel.arm is not None:
+            uses[path].append((f"{path}.arm", rel.arm))
+        if rel.where is not None:
+            uses[path].append((f"{path}.where", rel.where))
+    for m in experiment.metrics:
+        uses[value_rel].append((f"metric[{m.index + 1}].value", m.value))
+    for path, rel in (("assignment", experiment.assignment), ("events", experiment.events)):
+        if rel is None or rel.source.kind != "file" or not uses[path]:
+            continue
+        assert rel.source.path is not None
+        if not rel.source.path.is_file():
+            c.add(f"{path}.source", f"source file not found: {rel.source.path}")
+            continue
+        try:
+            columns = _file_columns(rel.source.path)
+        except Exception as err:  # duckdb.Error and OSError; the file is the user's to fix
+            c.add(f"{path}.source", f"cannot read {rel.source.text!r}: {str(err).splitlines()[0]}")
+            continue
+        known = {col.lower() for col in columns}
+        for key, node in uses[path]:
+            from sqlglot import exp
+
+            cols = [node] if isinstance(node, exp.Column) else list(node.find_all(exp.Column))
+            for col in cols:
+                if col.name.lower() not in known:
+                    c.add(key, f"column {col.name!r} is not in {rel.source.text!r}{_suggest(col.name, columns)} "
+                               f"(columns: {', '.join(columns)})")
+    if c.problems:
+        raise SpecError(c.problems, file)
