@@ -11,6 +11,7 @@ from __future__ import annotations
 
 import collections
 import os
+import re
 from dataclasses import dataclass, field
 from pathlib import Path
 
@@ -123,10 +124,11 @@ def test_labels_never_reach_sql_as_code(cases):
             continue
         if c.slot in ("experiment.name", "experiment.arms", "experiment.weights"):
             # These are used in Python only: the SQL is exactly that of the same spec without them.
-            sources = _sources(c)
+            # Table names differ per case (a_17, e_17): compare with them blanked out.
+            sources = tuple(re.sub(r"_\d+$", "_n", x) for x in _sources(c))
             if sources not in plain_sql:
                 plain_sql[sources] = compile_sql(parse_spec(toml_document(base_document(*sources))), "duckdb")
-            assert c.sql["duckdb"] == plain_sql[sources], (c.slot, c.label)
+            assert re.sub(r'"([ae])_\d+"', r'"\1_n"', c.sql["duckdb"]) == plain_sql[sources], (c.slot, c.label)
         if c.slot == "experiment.control":
             tree = sqlglot.parse_one(c.sql["duckdb"], read="duckdb")
             literals = {lit.this for lit in tree.find_all(exp.Literal) if lit.is_string}
@@ -142,13 +144,13 @@ def _sources(c: Case) -> tuple[str, str]:
 def test_accepted_sql_passes_the_read_only_proof_in_every_dialect(cases):
     """Every dialect, for the accepted inputs of the SQL-bearing slots: one SELECT, or a refusal."""
     sql_slots = set(SLOTS) - PYTHON_ONLY_SLOTS
-    # Three per slot (reserved words first: they are the ones dialects treat differently).
+    # Two per slot (reserved words first: they are the ones dialects treat differently).
     sample = sorted((c for c in cases if c.outcome == "accepted" and c.slot in sql_slots),
                     key=lambda c: (c.slot, "reserved" not in c.label, c.index))
     seen: set[tuple[str, str]] = set()
     refused = []
     for c in sample:
-        if sum(1 for slot, _ in seen if slot == c.slot) >= 3:
+        if sum(1 for slot, _ in seen if slot == c.slot) >= 2:
             continue
         seen.add((c.slot, c.label))
         for name, d in DIALECTS.items():
