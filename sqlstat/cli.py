@@ -72,8 +72,12 @@ def run(
     try:
         from . import api
         from .report import render
+        from .spec import check_columns, load_spec
 
-        analysis = api.run(spec, db=db)
+        experiment = load_spec(spec)
+        if db is None or db.lower().startswith("duckdb"):
+            check_columns(experiment)  # misspelt columns of file sources: a spec error, not an engine one
+        analysis = api.run(experiment, db=db)
         kinds = {"table": (".txt",), "json": (".json",), "csv": (".csv",)}[fmt.value]
         _emit(render(analysis, fmt.value), output, kinds, force)
     except Exception as err:  # noqa: BLE001 - mapped to exit codes in _fail
@@ -119,13 +123,22 @@ def sql(
 
 
 @app.command()
-def check(spec: Path = SPEC, debug: bool = DEBUG) -> None:
+def check(
+    spec: Path = SPEC,
+    columns: bool = typer.Option(
+        False, "--columns", help="Also read the column names of file sources (with DuckDB) and check every column the spec names."
+    ),
+    debug: bool = DEBUG,
+) -> None:
     """Validate the spec and print the plan: the test each metric will get and why."""
     try:
         from .report import plan_text
-        from .spec import load_spec
+        from .spec import check_columns, load_spec
 
-        sys.stdout.write(plan_text(load_spec(spec)))
+        experiment = load_spec(spec)
+        if columns:
+            check_columns(experiment)
+        sys.stdout.write(plan_text(experiment))
     except Exception as err:  # noqa: BLE001
         _fail(err, debug)
 

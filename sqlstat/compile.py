@@ -19,6 +19,7 @@ from .dialects import DIALECTS, Dialect, finish, finish_view, get_dialect, prepa
 from .errors import CompileError
 from .expressions import AGGREGATES, CANONICAL, is_predicate
 from .model import Experiment, Metric, Relation, Source
+from .readonly import check_read_only, declared_sources
 
 # Columns of every row the query returns, one row per (metric, arm), in this order.
 RESULT_COLUMNS = (
@@ -307,22 +308,26 @@ def render_baseline(experiment: Experiment, dialect: str | Dialect = "duckdb") -
     return _environment().get_template("baseline.sql.j2").render(**context)
 
 
-def _finish(canonical: str, d: Dialect, pretty: bool, view: str | None = None) -> str:
+def _finish(canonical: str, d: Dialect, pretty: bool, experiment: Experiment, view: str | None = None) -> str:
     try:
         statements = [s for s in sqlglot.parse(canonical, read=CANONICAL) if s is not None]
     except sqlglot.errors.ParseError as err:  # a template bug, not a user error
         raise CompileError(f"internal error: the rendered query does not parse: {err}") from err
     if len(statements) != 1 or not isinstance(statements[0], exp.Select):
         raise CompileError("internal error: the rendered query is not exactly one SELECT")
+    text = finish(statements[0], d, pretty=pretty) + "\n"
+    # Last step, on the exact text handed out: prove it only reads what the spec declared.
+    tables, files = declared_sources(experiment, d, lambda src: _display_path(src.path))
+    check_read_only(text, d, tables=tables, files=files)
     if view is not None:
         return finish_view(statements[0], d, view, pretty=pretty) + ";\n"
-    return finish(statements[0], d, pretty=pretty) + "\n"
+    return text
 
 
 def compile_baseline(experiment: Experiment, dialect: str | Dialect = "duckdb", *, pretty: bool = True) -> str:
     """Compile the planning baseline query (one read-only SELECT over the pre-period)."""
     d = dialect if isinstance(dialect, Dialect) else get_dialect(dialect)
-    return _finish(render_baseline(experiment, d), d, pretty)
+    return _finish(render_baseline(experiment, d), d, pretty, experiment)
 
 
 def compile_sql(
@@ -336,7 +341,7 @@ def compile_sql(
     ``readout``, the query also carries p-values, intervals, adjustments and verdicts.
     """
     d = dialect if isinstance(dialect, Dialect) else get_dialect(dialect)
-    return _finish(render_canonical(experiment, d, readout=readout), d, pretty, view)
+    return _finish(render_canonical(experiment, d, readout=readout), d, pretty, experiment, view)
 
 
 def compile_all(experiment: Experiment, *, view: str | None = None) -> tuple[dict[str, str], dict[str, str]]:
@@ -457,4 +462,4 @@ def compile_daily(experiment: Experiment, dialect: str | Dialect = "duckdb", *, 
     happened, holding the readout as of the end of that day (columns: DAILY_COLUMNS).
     """
     d = dialect if isinstance(dialect, Dialect) else get_dialect(dialect)
-    return _finish(render_daily(experiment, d), d, pretty)
+    return _finish(render_daily(experiment, d), d, pretty, experiment)

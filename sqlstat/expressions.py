@@ -10,6 +10,7 @@ into SQL as text: later stages only ever see trees produced here.
 from __future__ import annotations
 
 import difflib
+import unicodedata
 
 import sqlglot
 from sqlglot import exp
@@ -70,8 +71,78 @@ ALLOWED_FUNCTION_NAMES = sorted(set(AGGREGATES.values()) | set(SCALAR_FUNCTIONS.
 _PREDICATES = (exp.Predicate, exp.Connector, exp.Not, exp.Boolean)
 
 
+MAX_FRAGMENT_CHARS = 10_000  # far above any real metric; bounds parse time and memory
+MAX_IDENTIFIER_CHARS = 128  # SQL Server's and Snowflake's limits are 128 and 255; PostgreSQL's 63
+MAX_DEPTH = 200  # nesting of one fragment; deeper trees only come from generated or hostile text
+
+# Schemas that Spark and Databricks read as a file format: parquet.`/some/path`.
+FILE_FORMAT_SCHEMAS = frozenset(
+    {"parquet", "csv", "json", "orc", "avro", "text", "delta", "binaryfile", "jdbc", "libsvm", "xml"}
+)
+
+
 class ExpressionProblem(ValueError):
     """A user fragment was refused; the message says why and what to write instead."""
+
+
+def invisible_characters(text: str, *, allow_whitespace: bool = False) -> list[str]:
+    """Control, format and separator characters in ``text`` (as U+XXXX names).
+
+    These either break drivers (NUL), repaint terminals (ESC), or make text read differently
+    from what it does (right-to-left override, zero-width space). Tab, newline and carriage
+    return are allowed where ``allow_whitespace`` is set (multi-line SQL).
+    """
+    found = []
+    for ch in text:
+        if allow_whitespace and ch in "\t\n\r":
+            continue
+        if unicodedata.category(ch) in ("Cc", "Cf", "Cs", "Co", "Cn", "Zl", "Zp"):
+            name = f"U+{ord(ch):04X}"
+            if name not in found:
+                found.append(name)
+    return found
+
+
+def looks_like_path(name: str) -> bool:
+    """True for a table-name part an engine might take as a file or URL.
+
+    DuckDB reads ``FROM "data.csv"`` as a file when no such table exists, and Spark reads
+    ``parquet.`/dir```: a dot, slash, backslash or colon inside one name part is refused.
+    """
+    return any(ch in name for ch in "./\\:")
+
+
+def _check_identifiers(node: exp.Expression, what: str) -> None:
+    """Every name in a fragment is non-empty, printable, bounded, and a plain word unless quoted."""
+    for ident in node.find_all(exp.Identifier):
+        name = ident.this if isinstance(ident.this, str) else str(ident.this)
+        if not name:
+            raise ExpressionProblem(f"{what}: an empty name (\"\") is not allowed")
+        if len(name) > MAX_IDENTIFIER_CHARS:
+            raise ExpressionProblem(f"{what}: a name is {len(name)} characters long; the limit is {MAX_IDENTIFIER_CHARS}")
+        bad = invisible_characters(name)
+        if bad:
+            raise ExpressionProblem(f"{what}: a name contains control or invisible characters ({', '.join(bad)})")
+        if not ident.quoted and not all(c.isalnum() or c in "_$" for c in name):
+            raise ExpressionProblem(
+                f"{what}: {name!r} is not a plain name; quote it with \" if it really is one"
+            )
+
+
+def _strip_comments(node: exp.Expression) -> exp.Expression:
+    # Comments would be printed into the emitted SQL, and MySQL runs /*! ... */ as code.
+    for n in node.walk():
+        n.comments = None
+    return node
+
+
+def _check_depth(node: exp.Expression, what: str) -> None:
+    stack = [(node, 1)]
+    while stack:
+        n, depth = stack.pop()
+        if depth > MAX_DEPTH:
+            raise ExpressionProblem(f"{what} is nested more than {MAX_DEPTH} levels deep")
+        stack.extend((child, depth + 1) for child in n.iter_expressions())
 
 
 def is_predicate(node: exp.Expression) -> bool:
@@ -92,15 +163,25 @@ def _parse(text: str, what: str) -> exp.Expression:
         raise ExpressionProblem(f"{what} is empty")
     if "\x00" in text:
         raise ExpressionProblem(f"{what} contains a NUL character")
+    if len(text) > MAX_FRAGMENT_CHARS:
+        raise ExpressionProblem(f"{what} is {len(text):,} characters long; the limit is {MAX_FRAGMENT_CHARS:,}")
+    bad = invisible_characters(text, allow_whitespace=True)
+    if bad:
+        raise ExpressionProblem(f"{what} contains control or invisible characters ({', '.join(bad)})")
     try:
         statements = sqlglot.parse(text, read=CANONICAL)
     except (ParseError, TokenError) as err:
         first = str(err).splitlines()[0]
         raise ExpressionProblem(f"{what} does not parse as SQL: {first}") from None
+    except RecursionError:
+        raise ExpressionProblem(f"{what} is nested too deeply to parse") from None
     statements = [s for s in statements if s is not None]
     if len(statements) != 1:
         raise ExpressionProblem(f"{what} must be one SQL expression, not {len(statements)} statements")
-    return statements[0]
+    node = statements[0]
+    _check_depth(node, what)
+    _check_identifiers(node, what)
+    return _strip_comments(node)
 
 
 def _function_name(node: exp.Expression) -> str:
@@ -217,7 +298,9 @@ def parse_filter(text: str, what: str) -> exp.Expression:
 def parse_column(text: str, what: str) -> exp.Column:
     """Parse a column name. Plain names follow the engine's case rules; quote to keep case."""
     if isinstance(text, str) and text.strip() and all(c.isalnum() or c == "_" for c in text) and not text[0].isdigit():
-        return exp.column(exp.to_identifier(text, quoted=False))
+        node = exp.column(exp.to_identifier(text, quoted=False))
+        _check_identifiers(node, what)
+        return node
     node = _parse(text, what)
     if not isinstance(node, exp.Column) or node.table:
         raise ExpressionProblem(
@@ -228,9 +311,11 @@ def parse_column(text: str, what: str) -> exp.Column:
 
 def parse_table(text: str, what: str) -> exp.Table:
     """Parse a table name: name, schema.name or catalog.schema.name."""
+    if not isinstance(text, str) or len(text) > MAX_FRAGMENT_CHARS or invisible_characters(text):
+        raise ExpressionProblem(f"{what} must be a table name of printable characters: {str(text)[:80]!r}")
     try:
         table = sqlglot.parse_one(text, read=CANONICAL, into=exp.Table)
-    except (ParseError, TokenError):
+    except (ParseError, TokenError, RecursionError):
         table = None
     if not isinstance(table, exp.Table) or not all(isinstance(p, exp.Identifier) for p in table.parts):
         raise ExpressionProblem(
@@ -239,7 +324,24 @@ def parse_table(text: str, what: str) -> exp.Table:
         )
     if table.args.get("alias") or table.args.get("joins") or table.args.get("laterals") or table.args.get("pivots"):
         raise ExpressionProblem(f"{what} must be only a table name: {text!r}")
-    return table
+    _check_identifiers(table, what)
+    _check_table_name(table, what)
+    return _strip_comments(table)
+
+
+def _check_table_name(table: exp.Table, what: str) -> None:
+    parts = [p.name for p in table.parts]
+    for part in parts:
+        if looks_like_path(part):
+            raise ExpressionProblem(
+                f"{what}: table name {part!r} looks like a file path, which some engines would read as a "
+                f"file; give the file itself as the source (DuckDB) or load it into a table"
+            )
+    if len(parts) == 2 and parts[0].lower() in FILE_FORMAT_SCHEMAS:
+        raise ExpressionProblem(
+            f"{what}: schema {parts[0]!r} names a file format, and Spark reads {'.'.join(parts)!r} as a "
+            f"file; use another schema name"
+        )
 
 
 def parse_query(text: str, what: str) -> exp.Query:
@@ -264,6 +366,12 @@ def parse_query(text: str, what: str) -> exp.Query:
             )
         if isinstance(n, exp.Func) and n.key in {"readcsv", "readparquet", "readjson"}:
             raise ExpressionProblem(f"{what}: reading files inside a query is not allowed; give the file as the source")
+        if isinstance(n, exp.Table):
+            if not isinstance(n.this, exp.Identifier):
+                raise ExpressionProblem(f"{what}: read from table names only, not {n.sql(CANONICAL)[:80]!r}")
+            _check_table_name(n, what)
+        if isinstance(n, (exp.Placeholder, exp.Parameter)):
+            raise ExpressionProblem(f"{what}: parameters ({n.sql(CANONICAL)}) are not allowed")
     return node
 
 

@@ -37,6 +37,17 @@ CORRECTION_KEYS = ("primary", "secondary", "guardrail", "segment")
 TOP_KEYS = ("experiment", "assignment", "events", "pre_period", "metric")
 FILE_SUFFIXES = (".parquet", ".csv", ".csv.gz", ".tsv", ".json", ".jsonl", ".ndjson")
 _NAME = re.compile(r"^[A-Za-z_][A-Za-z0-9_.\-]{0,99}$")
+MAX_LABEL_CHARS = 200  # arm labels and the experiment name: printed in every readout
+
+
+def _label_problem(value: str, what: str) -> str | None:
+    """Why a label (arm, experiment name) cannot be used, or None when it is fine."""
+    if len(value) > MAX_LABEL_CHARS:
+        return f"{what} is {len(value):,} characters long; the limit is {MAX_LABEL_CHARS}"
+    bad = ex.invisible_characters(value)
+    if bad:
+        return f"{what} contains control or invisible characters ({', '.join(bad)}); they would garble readouts"
+    return None
 
 
 class _Locator:
@@ -363,11 +374,17 @@ def parse_spec(text: str, base_dir: str | Path = ".", file: str | None = None) -
     exp_t = c.table(doc, "experiment", required=True) or {}
     c.unknown_keys(exp_t, EXPERIMENT_KEYS, "experiment")
     name = c.string(exp_t, "name", "experiment")
+    if name is not None and (why := _label_problem(name, "the experiment name")):
+        c.add("experiment.name", why)
+        name = None
     control = exp_t.get("control")
     if control is None:
         c.add("experiment", "missing required key 'control' (the label of the control arm)")
     elif isinstance(control, bool) or not isinstance(control, (str, int)) or str(control).strip() == "":
         c.add("experiment.control", "'control' must be the control arm's label (a string or an integer)")
+        control = None
+    elif why := _label_problem(str(control), "the control label"):
+        c.add("experiment.control", why)
         control = None
     else:
         control = str(control)
@@ -383,6 +400,8 @@ def parse_spec(text: str, base_dir: str | Path = ".", file: str | None = None) -
             c.add("experiment.arms", "'arms' has an empty arm label; every arm needs a name")
         elif len({str(a) for a in raw}) != len(raw):
             c.add("experiment.arms", "'arms' lists a label twice")
+        elif any(_label_problem(str(a), "an arm label") for a in raw):
+            c.add("experiment.arms", next(w for a in raw if (w := _label_problem(str(a), "an arm label"))))
         else:
             arms = tuple(str(a) for a in raw)
 
@@ -393,6 +412,8 @@ def parse_spec(text: str, base_dir: str | Path = ".", file: str | None = None) -
             c.add("experiment.weights", "'weights' must map at least two arm labels to their planned shares")
         elif any(str(k).strip() == "" for k in raw):
             c.add("experiment.weights", "'weights' has an empty arm label; every arm needs a name")
+        elif any(_label_problem(str(k), "an arm label") for k in raw):
+            c.add("experiment.weights", next(w for k in raw if (w := _label_problem(str(k), "an arm label"))))
         else:
             bad = [k for k, v in raw.items() if isinstance(v, bool) or not isinstance(v, (int, float)) or not (v > 0 and math.isfinite(v))]
             if bad:
@@ -555,3 +576,77 @@ def _check_daily(c: _Checker, asg_t: dict | None, ev_t: dict | None, raw_metrics
                                            f"view (a value seen on two days must count once); use one of "
                                            f"{', '.join(DAILY_AGGREGATES)}, or drop 'daily = true'")
                     break
+
+
+def _file_columns(path: Path) -> list[str]:
+    """Column names of a data file, read by DuckDB (DESCRIBE); DuckDB is imported only here."""
+    import duckdb
+    from sqlglot import exp
+
+    name = path.name.lower()
+    reader = "read_parquet" if name.endswith(".parquet") else (
+        "read_json_auto" if name.endswith((".json", ".jsonl", ".ndjson")) else "read_csv_auto"
+    )
+    literal = exp.Literal.string(str(path)).sql("duckdb")
+    with duckdb.connect() as con:
+        return [row[0] for row in con.execute(f"DESCRIBE SELECT * FROM {reader}({literal})").fetchall()]
+
+
+def check_columns(experiment: Experiment, text: str | None = None) -> None:
+    """Check every column the spec names against the columns of its file sources.
+
+    Only file sources can be inspected without a database connection; table and query
+    sources are left to the engine. Raises one SpecError listing every unknown column,
+    with the nearest existing name. Opt-in (``sqlstat check --columns``) and done by
+    ``sqlstat run`` on DuckDB, because it reads the files.
+    """
+    file = str(experiment.spec_path) if experiment.spec_path else None
+    if text is None and experiment.spec_path is not None and experiment.spec_path.is_file():
+        text = experiment.spec_path.read_text(encoding="utf-8")
+    c = _Checker(text or "", Path("."))
+    value_rel = "events" if experiment.events is not None else "assignment"
+    uses: dict[str, list[tuple[str, Any]]] = {"assignment": [], "events": [], "pre_period": []}
+    pp = experiment.pre_period
+    sources = (("assignment", experiment.assignment), ("events", experiment.events), ("pre_period", pp))
+    for path, rel in sources:
+        if rel is None:
+            continue
+        uses[path] += [(f"{path}.unit", rel.unit)]
+        if getattr(rel, "arm", None) is not None:
+            uses[path].append((f"{path}.arm", rel.arm))
+        if getattr(rel, "time", None) is not None:
+            uses[path].append((f"{path}.time", rel.time))
+        if rel.where is not None:
+            uses[path].append((f"{path}.where", rel.where))
+    for seg in experiment.segments:
+        uses["assignment"].append(("experiment.segments", seg))
+    for m in experiment.metrics:
+        key = "numerator" if m.kind == "ratio" else "value"
+        uses[value_rel].append((f"metric[{m.index + 1}].{key}", m.value))
+        if m.denominator is not None:
+            uses[value_rel].append((f"metric[{m.index + 1}].denominator", m.denominator))
+        if m.covariate is not None:
+            uses["pre_period"].append((f"metric[{m.index + 1}].covariate", m.covariate))
+    for path, rel in sources:
+        if rel is None or rel.source.kind != "file" or not uses[path]:
+            continue
+        assert rel.source.path is not None
+        if not rel.source.path.is_file():
+            c.add(f"{path}.source", f"source file not found: {rel.source.path}")
+            continue
+        try:
+            columns = _file_columns(rel.source.path)
+        except Exception as err:  # duckdb.Error and OSError; the file is the user's to fix
+            c.add(f"{path}.source", f"cannot read {rel.source.text!r}: {str(err).splitlines()[0]}")
+            continue
+        known = {col.lower() for col in columns}
+        for key, node in uses[path]:
+            from sqlglot import exp
+
+            cols = [node] if isinstance(node, exp.Column) else list(node.find_all(exp.Column))
+            for col in cols:
+                if col.name.lower() not in known:
+                    c.add(key, f"column {col.name!r} is not in {rel.source.text!r}{_suggest(col.name, columns)} "
+                               f"(columns: {', '.join(columns)})")
+    if c.problems:
+        raise SpecError(c.problems, file)

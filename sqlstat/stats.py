@@ -172,6 +172,7 @@ class Analysis:
     targets: tuple[TargetCheck, ...] = ()
     decisions: tuple[Decision, ...] = ()
     corrections: dict[str, str] = field(default_factory=dict)
+    data_problems: tuple[str, ...] = ()  # the notes that mean the data does not match the plan
 
     @property
     def overall(self) -> tuple[TestResult, ...]:
@@ -183,7 +184,7 @@ class Analysis:
 
     @property
     def data_problem(self) -> bool:
-        return any(r.data_problem for r in self.overall) or (
+        return bool(self.data_problems) or any(r.data_problem for r in self.overall) or (
             self.sample_ratio is not None and self.sample_ratio.mismatch
         )
 
@@ -391,11 +392,23 @@ def compare(metric: Metric, row: dict, alpha: float) -> TestResult:
                           p_value=NAN, ci_low=NAN, ci_high=NAN, alpha=alpha, significant=False,
                           notes=tuple(notes), data_problem=True)
 
+    sums = ("total", "control_total", "variance", "control_variance", "std_error")
+    if any(isinstance(row.get(k), float) and math.isinf(row[k]) for k in sums):
+        # A silent p = 1 would follow (difference / infinity = 0): refuse to test instead.
+        notes.append("values are too large for double precision (a sum or variance overflowed to infinity): "
+                     "no test is possible; rescale the metric (e.g. divide it by 1e6)")
+        return TestResult(metric.name, metric.kind, str(row["arm"]), test, reason, control, treatment,
+                          estimate, NAN, NAN, stat_name, None, NAN, NAN, NAN, alpha, False, notes=tuple(notes), data_problem=True)
+
     if metric.kind == "proportion" and (row.get("invalid") or 0) > 0:
         notes.append(
             f"{int(row['invalid'])} unit value(s) in this arm are not 0 or 1, so this is not a proportion; "
             f"write the value as a condition (e.g. count(*) > 0) or use kind = \"mean\""
         )
+        if test == TEST_FISHER_EXACT:  # counts above n make no 2x2 table: no test, not a crash
+            return TestResult(metric.name, metric.kind, str(row["arm"]), test, reason, control, treatment,
+                              estimate, NAN, NAN, stat_name, None, NAN, NAN, NAN, alpha, False,
+                              notes=tuple(notes), data_problem=True)
         problem = True
 
     if test == TEST_FISHER_EXACT:
@@ -403,18 +416,26 @@ def compare(metric: Metric, row: dict, alpha: float) -> TestResult:
         statistic, p = fisher_exact(x_t, treatment.n, x_c, control.n)
         lo, hi = newcombe_interval(x_t, treatment.n, x_c, control.n, alpha)
         notes.append("interval: Newcombe's hybrid score interval (valid with few events)")
+        if x_t + x_c == 0 or (x_t == treatment.n and x_c == control.n):
+            every = "no unit" if x_t + x_c == 0 else "every unit"
+            notes.append(f"{every} in either arm had the event: the data cannot show a difference (p = 1 by construction)")
         stat_name, df = "odds_ratio", None
     else:
         if test in T_TESTS:
             if min(treatment.n, control.n) < 2:
                 notes.append("an arm has fewer than 2 units: its variance, and so the t test, is undefined")
                 problem = True
-            elif df is None and not _finite(statistic):
+            elif not _finite(statistic):
                 if treatment.variance == 0 and control.variance == 0:
-                    notes.append("both arms have zero variance: every unit has the same value, no test is possible")
+                    notes.append("both arms have zero variance (every unit has the same value, or values too close "
+                                 "to tell apart in double precision): no test is possible")
                 else:
                     notes.append("the standard error is zero or undefined: no test is possible")
                 problem = True
+            elif treatment.variance == 0 or control.variance == 0:
+                flat = "treatment" if treatment.variance == 0 else "control"
+                notes.append(f"the {flat} arm has zero variance (every unit has the same value): the test rests on "
+                             f"the other arm's variance alone; check the metric's definition")
             if min(treatment.n, control.n) < MIN_UNITS_FOR_CLT:
                 notes.append(
                     f"an arm has fewer than {MIN_UNITS_FOR_CLT} units (common-practice threshold): "
@@ -689,17 +710,30 @@ def analyse(experiment: Experiment, rows: Iterable[dict]) -> Analysis:
             continue
         units.setdefault(str(r["arm"]), int(r["units"]) if _finite(r.get("units")) else 0)
         excluded = int(r["excluded_units"]) if _finite(r.get("excluded_units")) else 0
+    problems: list[str] = []
     if excluded:
-        notes.append(
+        problems.append(
             f"{excluded} unit(s) were in more than one arm, or in none, and were left out of every metric"
         )
     declared = experiment.arms
     if declared:
         unknown = sorted(set(units) - set(declared))
         if unknown:
-            notes.append(f"arm label(s) {unknown} are in the data but not in the spec; they are compared with control too")
+            problems.append(
+                f"arm label(s) {unknown} are in the data but not in the spec; they are compared with control too, "
+                f"but left out of the sample-ratio check"
+            )
         for a in declared:
+            if units.get(a, 0) == 0 and a != experiment.control:
+                problems.append(f"arm {a!r} is declared in the spec but has no units in the data: nothing to compare")
             units.setdefault(a, 0)
+    by_index_all = {m.index: m for m in experiment.metrics}
+    for r in overall_rows:
+        m = by_index_all.get(int(r.get("metric_index") or 0))
+        n, arm_units = r.get("n"), r.get("units")
+        if r.get("arm") is not None and m is not None and m.missing == "exclude" and _finite(n) and _finite(arm_units) and arm_units > n:
+            notes.append(f"{m.name}: {int(arm_units - n)} unit(s) of arm {r['arm']!r} have no value and were left out "
+                         f"(missing = \"exclude\")")
     if experiment.control not in units or units.get(experiment.control, 0) == 0:
         from .errors import DataProblem
         import difflib
@@ -748,7 +782,8 @@ def analyse(experiment: Experiment, rows: Iterable[dict]) -> Analysis:
         excluded_units=excluded,
         sample_ratio=srm,
         results=tuple(results),
-        notes=tuple(notes),
+        notes=tuple(problems + notes),
+        data_problems=tuple(problems),
         targets=tuple(targets),
         decisions=tuple(decisions),
         corrections=dict(experiment.corrections),
