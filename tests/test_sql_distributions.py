@@ -80,6 +80,7 @@ def _connect_postgres():
                               autocommit=True)
     except Exception as err:  # noqa: BLE001 - any connection failure means the server is absent
         _absent(f"PostgreSQL on 127.0.0.1:5432 is not reachable: {err}")
+    con.execute("SET statement_timeout = '120s'")  # a shared server: never let a query run away
     return _dbapi_runner(con), con.close
 
 
@@ -93,6 +94,9 @@ def _connect_mysql():
                               connect_timeout=5)
     except Exception as err:  # noqa: BLE001
         _absent(f"MariaDB/MySQL on 127.0.0.1:3306 is not reachable: {err}")
+    with con.cursor() as cur:  # a shared server: cap this session's memory and time (MariaDB)
+        cur.execute("SET SESSION max_session_mem_used = 1073741824")
+        cur.execute("SET SESSION max_statement_time = 120")
     return _dbapi_runner(con), con.close
 
 
