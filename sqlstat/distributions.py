@@ -122,10 +122,14 @@ _OUTPUTS = {
 _GRID_TEMPLATE = """\
 {%- import "distributions.sql.j2" as dist with context -%}
 WITH grid AS (
+{%- if table is not none %}
+  SELECT * FROM {{ table }}
+{%- else %}
 {%- for row in rows %}
   {{ "UNION ALL " if not loop.first }}SELECT {{ row.id }} AS id
 {%- for name, value in row.cells %}, CAST({{ value }} AS DOUBLE) AS {{ name }}{% endfor %}
 {%- endfor %}
+{%- endif %}
 )
 {%- if function == "normal_cdf" %}
 SELECT id, {{ dist.normal_cdf("x") }} AS value FROM grid
@@ -145,7 +149,8 @@ ORDER BY id
 """
 
 
-def render_grid(function: str, values: Iterable[Sequence[float | None]], *, k_literal: int | None = None) -> str:
+def render_grid(function: str, values: Iterable[Sequence[float | None]], *, k_literal: int | None = None,
+                table: str | None = None) -> str:
     """Canonical (DuckDB) SQL applying one macro to a constant grid; see ``grid_query``."""
     if function not in FUNCTIONS:
         raise ValueError(f"unknown function {function!r} (choose from: {', '.join(FUNCTIONS)})")
@@ -159,11 +164,11 @@ def render_grid(function: str, values: Iterable[Sequence[float | None]], *, k_li
     if not rows:
         raise ValueError("the grid is empty")
     template = _environment().from_string(_GRID_TEMPLATE)
-    return template.render(rows=rows, function=function, k_literal=k_literal, **template_context())
+    return template.render(rows=rows, function=function, k_literal=k_literal, table=table, **template_context())
 
 
 def grid_query(function: str, dialect: str, values: Iterable[Sequence[float | None]], *,
-               k_literal: int | None = None, pretty: bool = False) -> str:
+               k_literal: int | None = None, table: str | None = None, pretty: bool = False) -> str:
     """One SELECT over a constant grid (UNION ALL of literal rows with an ``id``), in ``dialect``.
 
     Args:
@@ -173,6 +178,10 @@ def grid_query(function: str, dialect: str, values: Iterable[Sequence[float | No
             normal_quantile (p), t_cdf (t, df), t_quantile (q, df), chisq_sf (x, k).
         k_literal: for chisq_sf, pass k as a literal integer to the macro instead of the
             grid column (the grid's k column is then ignored).
+        table: read the grid from this table (columns ``id`` and the inputs, as DOUBLE)
+            instead of literal rows; ``values`` then only checks the row count. Spark runs
+            each branch of a UNION ALL of literal rows as a task of its own, which costs
+            seconds per query.
         pretty: pretty-print the SQL.
 
     Returns:
@@ -180,11 +189,16 @@ def grid_query(function: str, dialect: str, values: Iterable[Sequence[float | No
         ``value``, or ``lower``, ``upper``, ``note`` for t_cdf.
     """
     d = get_dialect(dialect)
-    canonical = render_grid(function, values, k_literal=k_literal)
+    canonical = render_grid(function, values, k_literal=k_literal, table=table)
     statements = [s for s in sqlglot.parse(canonical, read="duckdb") if s is not None]
     if len(statements) != 1 or not isinstance(statements[0], exp.Select):
         raise CompileError("internal error: the grid query is not exactly one SELECT")
     return finish(statements[0], d, pretty=pretty)
+
+
+def inputs(function: str) -> tuple[str, ...]:
+    """Grid column names (besides ``id``) that ``function`` reads, in ``values`` order."""
+    return _INPUTS[function]
 
 
 def outputs(function: str) -> tuple[str, ...]:
