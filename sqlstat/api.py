@@ -23,16 +23,19 @@ def _experiment(spec: str | Path | Experiment) -> Experiment:
     return spec if isinstance(spec, Experiment) else load_spec(spec)
 
 
-def sql(spec: str | Path | Experiment, dialect: str = "duckdb", *, pretty: bool = True, view: str | None = None) -> str:
+def sql(spec: str | Path | Experiment, dialect: str = "duckdb", *, pretty: bool = True, view: str | None = None,
+        readout: bool = False) -> str:
     """The experiment's one read-only SELECT, in ``dialect`` (default DuckDB).
 
-    With ``view``, wrapped as a CREATE OR REPLACE VIEW statement of that name.
+    With ``readout``, the query also carries p-values, intervals, adjusted p-values, the
+    guardrail status and the verdict in its own columns (for dashboards); with ``view``,
+    it is wrapped as a CREATE OR REPLACE VIEW statement of that name.
     """
-    return compile_sql(_experiment(spec), dialect, pretty=pretty, view=view)
+    return compile_sql(_experiment(spec), dialect, pretty=pretty, view=view, readout=readout)
 
 
 def sql_folder(spec: str | Path | Experiment, folder: str | Path, *, view: str | None = None,
-               force: bool = False) -> tuple[list[Path], dict[str, str]]:
+               force: bool = False, readout: bool = False) -> tuple[list[Path], dict[str, str]]:
     """Write the query for every dialect to ``folder`` as <experiment>.<dialect>.sql.
 
     Returns the files written and, per dialect skipped, why (e.g. file sources outside DuckDB).
@@ -43,7 +46,7 @@ def sql_folder(spec: str | Path | Experiment, folder: str | Path, *, view: str |
     experiment = _experiment(spec)
     target = Path(folder)
     target.mkdir(parents=True, exist_ok=True)
-    done, skipped = compile_all(experiment, view=view)
+    done, skipped = compile_all(experiment, view=view, readout=readout)
     stem = "".join(c if c.isalnum() or c in "-_" else "_" for c in experiment.name)
     written = [write_atomic(target / f"{stem}.{d}.sql", text, kinds=(".sql",), force=force) for d, text in done.items()]
     return written, skipped

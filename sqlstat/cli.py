@@ -92,6 +92,10 @@ def sql(
     spec: Path = SPEC,
     dialect: str = typer.Option("duckdb", "--dialect", "-d", help="Target SQL dialect (see `sqlstat dialects`)."),
     output: Optional[Path] = typer.Option(None, "--output", "-o", help="Write the SQL to this file (atomically)."),
+    readout: bool = typer.Option(
+        False, "--readout", help="Carry the whole readout in the query's columns: p-values, intervals, "
+        "adjusted p-values, guardrails and the verdict (for dashboards with no Python step).",
+    ),
     as_view: Optional[str] = typer.Option(
         None, "--as-view", help="Wrap the SELECT as CREATE OR REPLACE VIEW NAME AS ... for a scheduler."
     ),
@@ -108,7 +112,7 @@ def sql(
         from . import api
 
         if folder is not None:
-            written, skipped = api.sql_folder(spec, folder, view=as_view, force=force)
+            written, skipped = api.sql_folder(spec, folder, view=as_view, force=force, readout=readout)
             for path in written:
                 typer.echo(f"wrote {path}")
             for name, why in skipped.items():
@@ -117,7 +121,7 @@ def sql(
         if daily:
             _emit(api.daily_sql(spec, dialect), output, (".sql",), force)
             return
-        _emit(api.sql(spec, dialect, view=as_view), output, (".sql",), force)
+        _emit(api.sql(spec, dialect, view=as_view, readout=readout), output, (".sql",), force)
     except Exception as err:  # noqa: BLE001
         _fail(err, debug)
 

@@ -316,6 +316,13 @@ def _finish(canonical: str, d: Dialect, pretty: bool, experiment: Experiment, vi
     if len(statements) != 1 or not isinstance(statements[0], exp.Select):
         raise CompileError("internal error: the rendered query is not exactly one SELECT")
     text = finish(statements[0], d, pretty=pretty) + "\n"
+    if d.max_query_bytes and len(text.encode()) > d.max_query_bytes:
+        text = finish(statements[0], d, pretty=False) + "\n"
+        if len(text.encode()) > d.max_query_bytes:
+            raise CompileError(
+                f"the query is {len(text.encode()):,} bytes, more than {d.title} parses by default "
+                f"({d.max_query_bytes:,}); raise the engine's limit, or split the metrics over two specs"
+            )
     # Last step, on the exact text handed out: prove it only reads what the spec declared.
     tables, files = declared_sources(experiment, d, lambda src: _display_path(src.path))
     check_read_only(text, d, tables=tables, files=files)
@@ -344,12 +351,14 @@ def compile_sql(
     return _finish(render_canonical(experiment, d, readout=readout), d, pretty, experiment, view)
 
 
-def compile_all(experiment: Experiment, *, view: str | None = None) -> tuple[dict[str, str], dict[str, str]]:
+def compile_all(
+    experiment: Experiment, *, view: str | None = None, readout: bool = False
+) -> tuple[dict[str, str], dict[str, str]]:
     """The query in every dialect: ({dialect: sql}, {dialect: why it was skipped})."""
     done, skipped = {}, {}
     for name in DIALECTS:
         try:
-            done[name] = compile_sql(experiment, name, view=view)
+            done[name] = compile_sql(experiment, name, view=view, readout=readout)
         except CompileError as err:
             skipped[name] = str(err)
     return done, skipped

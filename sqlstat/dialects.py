@@ -38,6 +38,12 @@ class Dialect:
     renames: dict[type[exp.Expression], str] = field(default_factory=dict)
     reads_files: bool = False  # can read .parquet/.csv paths as a source (DuckDB only)
     replaces_views: bool = True  # has CREATE OR REPLACE VIEW (T-SQL's CREATE OR ALTER counts)
+    # Most WITH elements one query may have (0: no limit); beyond it, CTEs read once are
+    # moved into their only reader as derived tables.
+    max_ctes: int = 0
+    # Longest query text the engine parses by default (0: no limit); a longer pretty-printed
+    # query is printed compactly instead.
+    max_query_bytes: int = 0
     # Query-level settings appended to the statement (ClickHouse: SETTINGS k = v).
     settings: dict[str, int] = field(default_factory=dict)
     # Identifier quote to print with, when the dialect's usual one is unsafe.
@@ -52,7 +58,9 @@ _DIALECTS = [
     Dialect("postgres", "postgres", "PostgreSQL", executed="executed (server)"),
     # MariaDB has no sqlglot dialect of its own; MySQL's is the right one for what we emit.
     # MySQL and MariaDB have VAR_SAMP but no covariance aggregate.
-    Dialect("mysql", "mysql", "MySQL / MariaDB", covariance="via_variance", executed="executed on MariaDB (server)"),
+    # MariaDB refuses more than 64 WITH elements (error 4003).
+    Dialect("mysql", "mysql", "MySQL / MariaDB", covariance="via_variance", max_ctes=64,
+            executed="executed on MariaDB (server)"),
     # SQLite has no variance aggregate at all. And it reads a double-quoted name that
     # matches no column as a string literal: sum("amout") is silently 0. A name in grave
     # accents is always an identifier, so a typo becomes "no such column".
@@ -71,6 +79,8 @@ _DIALECTS = [
         # Without it, a LEFT JOIN fills unmatched rows with 0 and '' instead of NULL, so
         # units with no events would count as 0 even under missing = "exclude".
         settings={"join_use_nulls": 1},
+        # ClickHouse parses at most max_query_size = 262144 bytes unless told otherwise.
+        max_query_bytes=262144,
         executed="executed (chdb, embedded)",
     ),
     # Snowflake, BigQuery, Redshift and SQL Server do not document how their variance and
@@ -124,6 +134,8 @@ def finish(tree: exp.Expression, dialect: Dialect, *, pretty: bool = True) -> st
         tree = tree.transform(rename)
     if isinstance(tree, exp.Select):
         _apply_settings(tree, dialect)
+        if dialect.max_ctes:
+            tree = inline_ctes(tree, dialect.max_ctes)
     return tree.sql(dialect=_printer(dialect.sqlglot, dialect.quote), identify=True, pretty=pretty)
 
 
@@ -225,3 +237,26 @@ def _apply_settings(select: exp.Select, dialect: Dialect) -> None:
         select.set("settings", [
             exp.EQ(this=exp.column(k), expression=exp.Literal.number(v)) for k, v in dialect.settings.items()
         ])
+
+
+def inline_ctes(select: exp.Select, limit: int) -> exp.Select:
+    """Fold WITH elements that are read exactly once into their reader, as derived tables,
+    until at most ``limit`` remain. Same query, fewer names, for engines that cap them."""
+    with_ = select.args.get("with_") or select.args.get("with")
+    if with_ is None or len(with_.expressions) <= limit:
+        return select
+    ctes = list(with_.expressions)
+    excess = len(ctes) - limit
+    for cte in list(ctes):
+        if excess <= 0:
+            break
+        name = cte.alias
+        refs = [t for t in select.find_all(exp.Table) if not t.db and t.name == name]
+        if len(refs) != 1:
+            continue
+        ref = refs[0]
+        alias = ref.alias or name
+        ref.replace(exp.Subquery(this=cte.this.copy(), alias=exp.TableAlias(this=exp.to_identifier(alias))))
+        cte.pop()
+        excess -= 1
+    return select

@@ -186,6 +186,20 @@ def duckdb_engine(path: str | None = None, connection: Any = None) -> Engine:
     return Engine("duckdb", run, path or "in memory", con.close if owned else None)
 
 
+# The self-contained readout (--readout) is a long chain of CTEs; Spark's analyzer stops
+# after 100 fixed-point iterations by default, which such a plan can need more than.
+SPARK_ANALYZER_ITERATIONS = 1000
+
+
+def _allow_deep_plans(session: Any) -> None:
+    key = "spark.sql.analyzer.maxIterations"
+    try:
+        if int(session.conf.get(key, "100")) < SPARK_ANALYZER_ITERATIONS:
+            session.conf.set(key, str(SPARK_ANALYZER_ITERATIONS))
+    except Exception:  # a cluster may forbid changing it; the query then says why it failed
+        pass
+
+
 def spark_engine(session: Any, description: str = "SparkSession") -> Engine:
     """Run on a pyspark SparkSession (local or cluster); the caller keeps the session.
 
@@ -199,6 +213,7 @@ def spark_engine(session: Any, description: str = "SparkSession") -> Engine:
         log = logging.getLogger("SQLQueryContextLogger")
         was_disabled, log.disabled = log.disabled, True
         try:
+            _allow_deep_plans(session)
             frame = session.sql(sql)
             columns = list(frame.columns)
             rows = [tuple(r) for r in frame.collect()]

@@ -1,0 +1,107 @@
+"""The self-contained readout (sqlstat sql --readout) against the Python layer, per engine.
+
+The query computes p-values, intervals, lift intervals, Holm/Benjamini-Hochberg
+adjustments, the sample-ratio check, guardrail status and verdicts in plain SQL. Each
+number must equal what the Python layer (scipy.special, itself checked against scipy and
+statsmodels in test_reference.py) gives for the same rows of the same engine: p-values
+to 1e-9 absolute, everything else to 1e-9 relative. The data keep every proportion above
+10 successes, so the z test applies in both layers (the SQL readout has no exact test).
+"""
+
+from __future__ import annotations
+
+import math
+
+import numpy as np
+import pytest
+
+import sqlstat
+from sqlstat.stats import analyse
+
+from .conftest import spec_text
+from .engine_fixtures import record_error
+
+ARMS = ("control", "treatment", "variant_b")
+
+METRICS = (
+    'name = "spend"\nkind = "mean"\nvalue = "sum(amount)"\nrole = "primary"\nbetter = "higher"',
+    'name = "converted"\nkind = "proportion"\nvalue = "count_if(converted) > 0"\nrole = "guardrail"\n'
+    'better = "higher"\nrelative_margin = 0.2',
+    'name = "spend_per_event"\nkind = "ratio"\nnumerator = "sum(amount)"\ndenominator = "count(*)"',
+    'name = "events"\nkind = "mean"\nvalue = "count(*)"\nequal_variance = true',
+    'name = "spend_z"\nkind = "mean"\nvalue = "sum(amount)"\nsigma = 15.0\nrole = "guardrail"\n'
+    'better = "lower"\nmargin = 2.0',
+)
+
+
+def readout_data(seed: int = 23, per_arm: int = 150):
+    rng = np.random.default_rng(seed)
+    n = per_arm * 3
+    unit = np.arange(1, n + 1, dtype=np.int64)
+    arm = np.array(ARMS)[np.arange(n) % 3]
+    rng.shuffle(arm)
+    region = rng.choice(["north", "south"], size=n)
+    counts = rng.poisson(2.0, n)
+    ev_unit = np.repeat(unit, counts)
+    lift = {"control": 0.0, "treatment": 2.0, "variant_b": -0.5}
+    amount = rng.normal(20.0, 8.0, ev_unit.size) + np.array([lift[a] for a in np.repeat(arm, counts)])
+    return ({"unit": unit, "arm": arm, "region": region},
+            {"unit": ev_unit, "amount": amount, "converted": rng.random(ev_unit.size) < 0.35})
+
+
+@pytest.fixture(scope="session")
+def readout_spec(engine_db):
+    assignments, events = readout_data()
+    a = engine_db.load("readout_assignments", assignments)
+    e = engine_db.load("readout_events", events)
+    extra = 'segments = ["region"]\narms = ["control", "treatment", "variant_b"]\nalways_valid = true\nmixing_sd = 0.1'
+    return sqlstat.parse_spec(spec_text(*METRICS, extra_experiment=extra, assignment_source=a, events_source=e))
+
+
+def close(engine: str, got, expected, what: str, *, rel: float = 1e-9, abs_: float = 1e-12) -> None:
+    record_error(engine, got, expected, what)
+    if expected is None or (isinstance(expected, float) and not math.isfinite(expected)):
+        assert got is None or not math.isfinite(got), what
+        return
+    assert got == pytest.approx(expected, rel=rel, abs=abs_), what
+
+
+def test_readout_columns_equal_the_python_layer(engine_db, readout_spec):
+    if engine_db.name == "spark":
+        # Measured here (pyspark 4.3, local mode): the analyzer runs out of heap on this
+        # plan, and even a one-metric readout fails at run time with a ClassCastException
+        # inside UnionExec. The plain query runs on Spark (test_engines.py); there, read
+        # the results through the Python layer. Kept as an expected failure, not run.
+        pytest.xfail("the --readout query does not run on Spark SQL 4.3 (documented limitation)")
+    with engine_db.engine() as eng:
+        plain = eng.run(sqlstat.sql(readout_spec, engine_db.dialect))
+        rows = eng.run(sqlstat.sql(readout_spec, engine_db.dialect, readout=True))
+    analysis = analyse(readout_spec, plain)
+    by_key = {(r.metric, r.segment_value or "(all)", r.arm): r for r in analysis.results}
+    verdicts = {d.arm: d.verdict for d in analysis.decisions}
+    assert len(rows) == len(by_key) == 5 * 2 * 3  # metrics x treatment arms x (all, north, south)
+    name = engine_db.name
+    for row in rows:
+        r = by_key[(row["metric"], row["segment_value"], row["arm"])]
+        what = f"{name} {r.metric}/{r.segment_value}/{r.arm}"
+        assert row["test"] == r.test, what
+        close(name, row["estimate"], r.estimate, what + " estimate")
+        close(name, row["std_error"], r.std_error, what + " std_error")
+        close(name, row["p_value"], r.p_value, what + " p", rel=0, abs_=1e-9)
+        close(name, row["ci_low"], r.ci_low, what + " ci_low")
+        close(name, row["ci_high"], r.ci_high, what + " ci_high")
+        close(name, row["lift_ci_low"], r.lift_ci_low, what + " lift_ci_low")
+        close(name, row["lift_ci_high"], r.lift_ci_high, what + " lift_ci_high")
+        # guardrails are adjusted on their one-sided p-values; their two-sided p stays as is
+        close(name, row["p_value_adjusted"], r.p_value if r.family == "guardrail" else r.p_value_adjusted,
+              what + " adjusted p", rel=0, abs_=1e-9)
+        assert row["correction"] == r.correction, what
+        assert bool(row["significant"]) == r.significant, what
+        close(name, row["always_valid_p_value"], r.always_valid_p_value, what + " always-valid p", rel=0, abs_=1e-9)
+        close(name, row["sequence_low"], r.sequence_low, what + " sequence_low")
+        if r.guardrail is not None and r.segment is None:
+            close(name, row["guardrail_p_value"], r.guardrail.p_value, what + " guardrail p", rel=0, abs_=1e-9)
+            assert bool(row["guardrail_held"]) == r.guardrail.held, what
+            assert bool(row["guardrail_harm"]) == r.guardrail.harm, what
+        assert row["verdict"] == verdicts[r.arm], what
+        close(name, row["srm_p_value"], analysis.sample_ratio.p_value, what + " sample-ratio p", rel=1e-9)
