@@ -52,11 +52,17 @@ def sql_folder(spec: str | Path | Experiment, folder: str | Path, *, view: str |
     return written, skipped
 
 
-def daily_sql(spec: str | Path | Experiment, dialect: str = "duckdb", *, pretty: bool = True) -> str:
-    """The daily cumulative view: one SELECT giving the readout as of each day (needs daily = true)."""
+def daily_sql(spec: str | Path | Experiment, dialect: str = "duckdb", *, pretty: bool = True,
+              readout: bool = False) -> str:
+    """The daily cumulative view: one SELECT giving the readout as of each day (needs daily = true).
+
+    With ``readout``, each day's rows also carry p-values, intervals, adjustments and the
+    verdict; with ``always_valid = true`` in the spec, the always-valid p-value is the
+    running minimum over the days so far.
+    """
     from .compile import compile_daily
 
-    return compile_daily(_experiment(spec), dialect, pretty=pretty)
+    return compile_daily(_experiment(spec), dialect, pretty=pretty, readout=readout)
 
 
 def analyse(spec: str | Path | Experiment, rows: Iterable[dict[str, Any]]) -> "Analysis":

@@ -119,7 +119,7 @@ def sql(
                 typer.echo(f"skipped {name}: {why}", err=True)
             return
         if daily:
-            _emit(api.daily_sql(spec, dialect), output, (".sql",), force)
+            _emit(api.daily_sql(spec, dialect, readout=readout), output, (".sql",), force)
             return
         _emit(api.sql(spec, dialect, view=as_view, readout=readout), output, (".sql",), force)
     except Exception as err:  # noqa: BLE001

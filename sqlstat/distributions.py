@@ -86,21 +86,10 @@ def template_context() -> dict:
     }
 
 
-def _template_dir() -> Path:
-    here = Path(__file__).resolve().parent
-    for candidate in (here / "templates", here.parent / "templates"):
-        if (candidate / "distributions.sql.j2").is_file():
-            return candidate
-    raise CompileError(f"SQL templates not found next to {here}; reinstall sqlstat")
-
-
-@lru_cache(maxsize=1)
 def _environment() -> jinja2.Environment:
-    return jinja2.Environment(
-        loader=jinja2.FileSystemLoader(str(_template_dir())),
-        undefined=jinja2.StrictUndefined,
-        autoescape=False,
-    )
+    from .templating import environment
+
+    return environment()
 
 
 # What each function reads from a grid row and which columns it returns.

@@ -183,18 +183,24 @@ class _Checker:
         unit = self.column(table, "unit", path)
         arm = self.column(table, "arm", path) if with_arm else None
         per_unit = self.boolean(table, "per_unit", path)
-        where = None
-        if "where" in table:
-            text = self.string(table, "where", path)
-            if text is not None:
-                try:
-                    where = ex.parse_filter(text, "where")
-                except ex.ExpressionProblem as err:
-                    self.add(f"{path}.where", str(err))
+        where = self.row_filter(table, path)
         time = self.column(table, "time", path) if "time" in table else None
         if src is None or unit is None or (with_arm and arm is None):
             return None
         return Relation(src, unit, arm, per_unit, where, time=time)
+
+    def row_filter(self, table: dict, path: str):
+        """The optional ``where`` condition of a source table, checked."""
+        if "where" not in table:
+            return None
+        text = self.string(table, "where", path)
+        if text is None:
+            return None
+        try:
+            return ex.parse_filter(text, "where")
+        except ex.ExpressionProblem as err:
+            self.add(f"{path}.where", str(err))
+            return None
 
     def probability(self, table: dict, key: str, path: str, default: float) -> float:
         value = table.get(key, default)
@@ -334,14 +340,7 @@ class _Checker:
                 dates.append(None)
         if dates[0] and dates[1] and dates[0] >= dates[1]:
             self.add(f"{path}.end", "'end' must be after 'start' (the window is start <= time < end)")
-        where = None
-        if "where" in table:
-            text = self.string(table, "where", path)
-            if text is not None:
-                try:
-                    where = ex.parse_filter(text, "where")
-                except ex.ExpressionProblem as err:
-                    self.add(f"{path}.where", str(err))
+        where = self.row_filter(table, path)
         if src is None or unit is None or time is None or None in dates:
             return None
         start, end = (d.date() if isinstance(d, _dt.datetime) else d for d in dates)

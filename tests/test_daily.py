@@ -576,3 +576,29 @@ def test_without_events_is_refused():
     with pytest.raises(SpecError) as info:
         sqlstat.parse_spec(text)
     assert any(p.key == "experiment.daily" and "[events]" in p.message for p in info.value.problems)
+
+
+def test_daily_readout_last_day_equals_the_readout_and_always_valid_is_a_running_minimum(engine):
+    """With --readout, every day carries p-values and verdicts; the last day equals the
+    main query's readout (same data, same formulas), and the always-valid p-value never
+    rises from one day to the next (running minimum over looks, Johari et al. 2017)."""
+    experiment = daily_experiment(engine, extra="always_valid = true\nmixing_sd = 0.2")
+    daily = engine.run(compile_daily(experiment, engine.dialect, readout=True))
+    cur = engine.con.cursor()
+    cur.execute(compile_sql(experiment, engine.dialect, readout=True))
+    main = normalise_rows([c[0] for c in cur.description], cur.fetchall())
+    last = max(r["day"] for r in daily)
+    final = {(r["metric"], r["arm"]): r for r in daily if r["day"] == last}
+    assert len(final) == len(main)
+    for row in main:
+        got = final[(row["metric"], row["arm"])]
+        for col in ("p_value", "ci_low", "ci_high", "lift_ci_low", "p_value_adjusted", "srm_p_value"):
+            if isinstance(row[col], float):
+                check(engine.name, got[col], row[col])
+        assert got["verdict"] == row["verdict"]
+    by_series: dict = {}
+    for r in sorted(daily, key=lambda r: r["day"]):
+        by_series.setdefault((r["metric"], r["arm"]), []).append(r["always_valid_p_value"])
+    for series in by_series.values():
+        values = [v for v in series if v is not None]
+        assert values and all(b <= a + 1e-15 for a, b in zip(values, values[1:]))
