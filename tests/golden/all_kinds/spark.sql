@@ -591,6 +591,19 @@ WITH `assigned_units` AS (
       )
     END AS `sequence_half_width`
   FROM `sequential`
+), `monitored_p` AS (
+  SELECT
+    *,
+    CASE
+      WHEN `log_likelihood_ratio` IS NULL
+      THEN NULL
+      WHEN `log_likelihood_ratio` <= 0
+      THEN 1.0
+      WHEN `log_likelihood_ratio` > 700
+      THEN 0.0
+      ELSE EXP(-`log_likelihood_ratio`)
+    END AS `sequential_p_value`
+  FROM `monitored`
 ), `result` AS (
   SELECT
     `metric_index`,
@@ -659,7 +672,7 @@ WITH `assigned_units` AS (
     `target`,
     `target_statistic`,
     `target_df`
-  FROM `monitored`
+  FROM `monitored_p`
 )
 SELECT
   `metric_index`,

@@ -440,6 +440,19 @@ WITH "unit_level" AS (
       )
     END AS "sequence_half_width"
   FROM "sequential"
+), "monitored_p" AS (
+  SELECT
+    *,
+    CASE
+      WHEN "log_likelihood_ratio" IS NULL
+      THEN NULL
+      WHEN "log_likelihood_ratio" <= 0
+      THEN 1.0
+      WHEN "log_likelihood_ratio" > 700
+      THEN 0.0
+      ELSE EXP(-"log_likelihood_ratio")
+    END AS "sequential_p_value"
+  FROM "monitored"
 ), "result" AS (
   SELECT
     "metric_index",
@@ -508,7 +521,7 @@ WITH "unit_level" AS (
     "target",
     "target_statistic",
     "target_df"
-  FROM "monitored"
+  FROM "monitored_p"
 )
 SELECT
   "metric_index",
