@@ -50,30 +50,12 @@ WITH `assigned_units` AS (
     CAST(`raw_4` AS DOUBLE) AS `v_4`,
     CAST(`raw_5` AS DOUBLE) AS `v_5`
   FROM `unit_joined`
-), `segment_list` AS (
-  SELECT
-    0 AS `segment_index`,
-    CAST(NULL AS STRING) AS `segment`
-), `unit_segments` AS (
-  SELECT
-    `u`.`arm_label`,
-    `g`.`segment_index`,
-    `g`.`segment`,
-    CASE `g`.`segment_index` WHEN 0 THEN '(all)' END AS `segment_value`,
-    `u`.`v_0`,
-    `u`.`v_1`,
-    `u`.`v_2`,
-    `u`.`v_3`,
-    `u`.`v_4`,
-    `u`.`v_5`
-  FROM `unit_values` AS `u`
-  CROSS JOIN `segment_list` AS `g`
 ), `arm_stats` AS (
   SELECT
     `arm_label`,
-    `segment_index`,
-    `segment`,
-    `segment_value`,
+    0 AS `segment_index`,
+    CAST(NULL AS STRING) AS `segment`,
+    '(all)' AS `segment_value`,
     CAST(COUNT(*) AS DOUBLE) AS `units`,
     CAST(COUNT(`v_0`) AS DOUBLE) AS `n_0`,
     AVG(`v_0`) AS `mean_0`,
@@ -94,12 +76,9 @@ WITH `assigned_units` AS (
     CAST(COUNT(`v_5`) AS DOUBLE) AS `n_5`,
     AVG(`v_5`) AS `mean_5`,
     VARIANCE(`v_5`) AS `variance_5`
-  FROM `unit_segments`
+  FROM `unit_values`
   GROUP BY
-    `arm_label`,
-    `segment_index`,
-    `segment`,
-    `segment_value`
+    `arm_label`
 ), `metric_list` AS (
   SELECT
     0 AS `metric_index`,

@@ -50,49 +50,28 @@ WITH [assigned_units] AS (
     CAST([raw_4] AS FLOAT) AS [v_4],
     CAST([raw_5] AS FLOAT) AS [v_5]
   FROM [unit_joined]
-), [segment_list] AS (
-  SELECT
-    0 AS [segment_index],
-    CAST(NULL AS VARCHAR(MAX)) AS [segment]
-), [unit_segments] AS (
-  SELECT
-    [u].[arm_label] AS [arm_label],
-    [g].[segment_index] AS [segment_index],
-    [g].[segment] AS [segment],
-    CASE [g].[segment_index] WHEN 0 THEN '(all)' END AS [segment_value],
-    [u].[v_0] AS [v_0],
-    [u].[v_1] AS [v_1],
-    [u].[v_2] AS [v_2],
-    [u].[v_3] AS [v_3],
-    [u].[v_4] AS [v_4],
-    [u].[v_5] AS [v_5]
-  FROM [unit_values] AS [u]
-  CROSS JOIN [segment_list] AS [g]
 ), [unit_centred] AS (
   SELECT
     [arm_label] AS [arm_label],
-    [segment_index] AS [segment_index],
-    [segment] AS [segment],
-    [segment_value] AS [segment_value],
     [v_0] AS [v_0],
-    [v_0] - AVG([v_0]) OVER (PARTITION BY [arm_label], [segment_index], [segment_value]) AS [d_0],
+    [v_0] - AVG([v_0]) OVER (PARTITION BY [arm_label]) AS [d_0],
     [v_1] AS [v_1],
-    [v_1] - AVG([v_1]) OVER (PARTITION BY [arm_label], [segment_index], [segment_value]) AS [d_1],
+    [v_1] - AVG([v_1]) OVER (PARTITION BY [arm_label]) AS [d_1],
     [v_2] AS [v_2],
-    [v_2] - AVG([v_2]) OVER (PARTITION BY [arm_label], [segment_index], [segment_value]) AS [d_2],
+    [v_2] - AVG([v_2]) OVER (PARTITION BY [arm_label]) AS [d_2],
     [v_3] AS [v_3],
-    [v_3] - AVG([v_3]) OVER (PARTITION BY [arm_label], [segment_index], [segment_value]) AS [d_3],
+    [v_3] - AVG([v_3]) OVER (PARTITION BY [arm_label]) AS [d_3],
     [v_4] AS [v_4],
-    [v_4] - AVG([v_4]) OVER (PARTITION BY [arm_label], [segment_index], [segment_value]) AS [d_4],
+    [v_4] - AVG([v_4]) OVER (PARTITION BY [arm_label]) AS [d_4],
     [v_5] AS [v_5],
-    [v_5] - AVG([v_5]) OVER (PARTITION BY [arm_label], [segment_index], [segment_value]) AS [d_5]
-  FROM [unit_segments]
+    [v_5] - AVG([v_5]) OVER (PARTITION BY [arm_label]) AS [d_5]
+  FROM [unit_values]
 ), [arm_stats] AS (
   SELECT
     [arm_label] AS [arm_label],
-    [segment_index] AS [segment_index],
-    [segment] AS [segment],
-    [segment_value] AS [segment_value],
+    0 AS [segment_index],
+    CAST(NULL AS VARCHAR(MAX)) AS [segment],
+    '(all)' AS [segment_value],
     CAST(COUNT_BIG(*) AS FLOAT) AS [units],
     CAST(COUNT_BIG([v_0]) AS FLOAT) AS [n_0],
     AVG([v_0]) AS [mean_0],
@@ -127,10 +106,7 @@ WITH [assigned_units] AS (
     ) AS FLOAT) / NULLIF(CAST(COUNT_BIG([d_5]) AS FLOAT) - 1, 0) AS [variance_5]
   FROM [unit_centred]
   GROUP BY
-    [arm_label],
-    [segment_index],
-    [segment],
-    [segment_value]
+    [arm_label]
 ), [metric_list] AS (
   SELECT
     0 AS [metric_index],

@@ -12,37 +12,20 @@ WITH `unit_level` AS (
     COALESCE(CAST(`raw_0` AS FLOAT64), 0.0) AS `v_0`,
     COALESCE(CAST(`raw_1` AS FLOAT64), 0.0) AS `v_1`
   FROM `unit_level`
-), `segment_list` AS (
-  SELECT
-    0 AS `segment_index`,
-    CAST(NULL AS STRING) AS `segment`
-), `unit_segments` AS (
-  SELECT
-    `u`.`arm_label`,
-    `g`.`segment_index`,
-    `g`.`segment`,
-    CASE `g`.`segment_index` WHEN 0 THEN '(all)' END AS `segment_value`,
-    `u`.`v_0`,
-    `u`.`v_1`
-  FROM `unit_values` AS `u`
-  CROSS JOIN `segment_list` AS `g`
 ), `unit_centred` AS (
   SELECT
     `arm_label`,
-    `segment_index`,
-    `segment`,
-    `segment_value`,
     `v_0`,
-    `v_0` - AVG(`v_0`) OVER (PARTITION BY `arm_label`, `segment_index`, `segment_value`) AS `d_0`,
+    `v_0` - AVG(`v_0`) OVER (PARTITION BY `arm_label`) AS `d_0`,
     `v_1`,
-    `v_1` - AVG(`v_1`) OVER (PARTITION BY `arm_label`, `segment_index`, `segment_value`) AS `d_1`
-  FROM `unit_segments`
+    `v_1` - AVG(`v_1`) OVER (PARTITION BY `arm_label`) AS `d_1`
+  FROM `unit_values`
 ), `arm_stats` AS (
   SELECT
     `arm_label`,
-    `segment_index`,
-    `segment`,
-    `segment_value`,
+    0 AS `segment_index`,
+    CAST(NULL AS STRING) AS `segment`,
+    '(all)' AS `segment_value`,
     CAST(COUNT(*) AS FLOAT64) AS `units`,
     CAST(COUNT(`v_0`) AS FLOAT64) AS `n_0`,
     AVG(`v_0`) AS `mean_0`,
@@ -57,10 +40,7 @@ WITH `unit_level` AS (
     CAST(SUM(CASE WHEN `v_1` IS NULL OR `v_1` = 0 OR `v_1` = 1 THEN 0 ELSE 1 END) AS FLOAT64) AS `invalid_1`
   FROM `unit_centred`
   GROUP BY
-    `arm_label`,
-    `segment_index`,
-    `segment`,
-    `segment_value`
+    `arm_label`
 ), `metric_list` AS (
   SELECT
     0 AS `metric_index`,

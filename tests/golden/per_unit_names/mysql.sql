@@ -12,26 +12,12 @@ WITH `unit_level` AS (
     COALESCE(CAST(`raw_0` AS DOUBLE), 0.0) AS `v_0`,
     COALESCE(CAST(`raw_1` AS DOUBLE), 0.0) AS `v_1`
   FROM `unit_level`
-), `segment_list` AS (
-  SELECT
-    0 AS `segment_index`,
-    CAST(NULL AS CHAR) AS `segment`
-), `unit_segments` AS (
-  SELECT
-    `u`.`arm_label`,
-    `g`.`segment_index`,
-    `g`.`segment`,
-    CASE `g`.`segment_index` WHEN 0 THEN '(all)' END AS `segment_value`,
-    `u`.`v_0`,
-    `u`.`v_1`
-  FROM `unit_values` AS `u`
-  CROSS JOIN `segment_list` AS `g`
 ), `arm_stats` AS (
   SELECT
     `arm_label`,
-    `segment_index`,
-    `segment`,
-    `segment_value`,
+    0 AS `segment_index`,
+    CAST(NULL AS CHAR) AS `segment`,
+    '(all)' AS `segment_value`,
     CAST(COUNT(*) AS DOUBLE) AS `units`,
     CAST(COUNT(`v_0`) AS DOUBLE) AS `n_0`,
     AVG(`v_0`) AS `mean_0`,
@@ -40,12 +26,9 @@ WITH `unit_level` AS (
     AVG(`v_1`) AS `mean_1`,
     VAR_SAMP(`v_1`) AS `variance_1`,
     CAST(SUM(CASE WHEN `v_1` IS NULL OR `v_1` = 0 OR `v_1` = 1 THEN 0 ELSE 1 END) AS DOUBLE) AS `invalid_1`
-  FROM `unit_segments`
+  FROM `unit_values`
   GROUP BY
-    `arm_label`,
-    `segment_index`,
-    `segment`,
-    `segment_value`
+    `arm_label`
 ), `metric_list` AS (
   SELECT
     0 AS `metric_index`,

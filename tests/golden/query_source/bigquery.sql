@@ -32,34 +32,18 @@ WITH `assigned_units` AS (
     CASE WHEN `arm_label` = `arm_label_last` THEN `arm_label` END AS `arm_label`,
     COALESCE(CAST(`raw_0` AS FLOAT64), 0.0) AS `v_0`
   FROM `unit_joined`
-), `segment_list` AS (
-  SELECT
-    0 AS `segment_index`,
-    CAST(NULL AS STRING) AS `segment`
-), `unit_segments` AS (
-  SELECT
-    `u`.`arm_label`,
-    `g`.`segment_index`,
-    `g`.`segment`,
-    CASE `g`.`segment_index` WHEN 0 THEN '(all)' END AS `segment_value`,
-    `u`.`v_0`
-  FROM `unit_values` AS `u`
-  CROSS JOIN `segment_list` AS `g`
 ), `unit_centred` AS (
   SELECT
     `arm_label`,
-    `segment_index`,
-    `segment`,
-    `segment_value`,
     `v_0`,
-    `v_0` - AVG(`v_0`) OVER (PARTITION BY `arm_label`, `segment_index`, `segment_value`) AS `d_0`
-  FROM `unit_segments`
+    `v_0` - AVG(`v_0`) OVER (PARTITION BY `arm_label`) AS `d_0`
+  FROM `unit_values`
 ), `arm_stats` AS (
   SELECT
     `arm_label`,
-    `segment_index`,
-    `segment`,
-    `segment_value`,
+    0 AS `segment_index`,
+    CAST(NULL AS STRING) AS `segment`,
+    '(all)' AS `segment_value`,
     CAST(COUNT(*) AS FLOAT64) AS `units`,
     CAST(COUNT(`v_0`) AS FLOAT64) AS `n_0`,
     AVG(`v_0`) AS `mean_0`,
@@ -68,10 +52,7 @@ WITH `assigned_units` AS (
     ) / NULLIF(CAST(COUNT(`d_0`) AS FLOAT64) - 1, 0) AS `variance_0`
   FROM `unit_centred`
   GROUP BY
-    `arm_label`,
-    `segment_index`,
-    `segment`,
-    `segment_value`
+    `arm_label`
 ), `metric_list` AS (
   SELECT
     0 AS `metric_index`,
