@@ -13,6 +13,8 @@ and times, as whole processes the way a user runs them:
   H0. the same without the two-arm check (min(arm) only), for reference
   H30. hand-written DuckDB query doing B's work (30 metrics, with the two-arm check)
   H2. hand-written DuckDB query: single-level per-arm aggregation, 3 metrics
+  R. the engine time of A's query with and without `--readout` (the self-contained
+     p-values, intervals, adjustments and verdicts), alternated in one DuckDB process
 
 Each timing is the median of --repeat runs (default 3), after one warm-up run that also
 fills the OS file cache. Targets (issue): A <= 1.3 x H1; B <= 2 x A; C compared with H2.
@@ -126,12 +128,44 @@ def hand(query: str, path: Path) -> list[str]:
     return [sys.executable, "-c", code]
 
 
+def readout_cost(path: Path, repeat: int) -> tuple[list[float], list[float]]:
+    """Engine seconds of A's query plain and with --readout, alternated in one process
+    (same file cache, same connection), after one warm-up of each."""
+    import duckdb
+
+    import sqlstat
+
+    experiment = sqlstat.parse_spec(spec(path, 3, False, True))
+    queries = {False: sqlstat.sql(experiment, "duckdb"), True: sqlstat.sql(experiment, "duckdb", readout=True)}
+    con = duckdb.connect()
+    con.execute(f"SET file_search_path = '{path.parent}'")
+    times: dict[bool, list[float]] = {False: [], True: []}
+    for round_ in range(repeat + 1):
+        for readout, query in queries.items():
+            t0 = time.perf_counter()
+            con.execute(query).fetchall()
+            if round_:
+                times[readout].append(time.perf_counter() - t0)
+    return times[False], times[True]
+
+
+def print_readout_cost(path: Path, repeat: int) -> None:
+    plain, readout = readout_cost(path, max(repeat, 5))
+    print(f"R  engine time of A's query: plain median {statistics.median(plain):.2f} s "
+          f"({', '.join(f'{t:.2f}' for t in plain)}), --readout median {statistics.median(readout):.2f} s "
+          f"({', '.join(f'{t:.2f}' for t in readout)})")
+
+
 def main() -> None:
     ap = argparse.ArgumentParser()
     ap.add_argument("--units", type=int, default=20_000_000)
     ap.add_argument("--repeat", type=int, default=3)
+    ap.add_argument("--only-readout", action="store_true", help="measure R only")
     args = ap.parse_args()
     path = build(args.units)
+    if args.only_readout:
+        print_readout_cost(path, args.repeat)
+        return
     run = [sys.executable, "-m", "sqlstat.cli", "run"]
     cases = {
         "A  sqlstat, 3 metrics, per-unit regroup": run + [spec(path, 3, False).name],
@@ -158,6 +192,7 @@ def main() -> None:
     print(f"H30 / H1 = {results['H30 hand-written, two-level, 30 metrics'] / h1:.2f}  (the engine's own cost of 30 vs 3 metrics)")
     print(f"C / H2 = {c / h2:.2f}")
     print(f"D / A  = {results['D  sqlstat, 3 metrics, regroup, always_valid'] / a:.2f}  (cost of always-valid columns)")
+    print_readout_cost(path, args.repeat)
     import duckdb
 
     print(json.dumps({"units": args.units, "cpus": os.cpu_count(), "python": platform.python_version(),

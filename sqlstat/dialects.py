@@ -48,6 +48,10 @@ class Dialect:
     settings: dict[str, int] = field(default_factory=dict)
     # Identifier quote to print with, when the dialect's usual one is unsafe.
     quote: str = ""
+    # How a constant table (quadrature nodes, the metric list, the planned split) is
+    # written: "union" (SELECT ... UNION ALL SELECT ..., which every engine reads) or
+    # "values" (one VALUES list, for engines where a long UNION ALL of constants breaks).
+    constant_tables: str = "union"
     executed: str = "parsed only"  # how the test suite covers it (README support table)
 
 
@@ -67,9 +71,11 @@ _DIALECTS = [
     # SQLite also lacks CREATE OR REPLACE VIEW: the view form drops the old view first.
     Dialect("sqlite", "sqlite", "SQLite", variance="centred", covariance="centred", quote="`",
             replaces_views=False, executed="executed (embedded)"),
-    Dialect("spark", "spark", "Spark SQL", executed="executed (pyspark, local mode)"),
+    # Spark 4.3 fails at run time on a UNION ALL of constant rows read inside a shuffle
+    # stage (ClassCastException deserialising UnionExec); a VALUES list is a local table.
+    Dialect("spark", "spark", "Spark SQL", constant_tables="values", executed="executed (pyspark, local mode)"),
     # Databricks runs Spark SQL: the same aggregates as the executed Spark dialect.
-    Dialect("databricks", "databricks", "Databricks SQL"),
+    Dialect("databricks", "databricks", "Databricks SQL", constant_tables="values"),
     Dialect(
         "clickhouse",
         "clickhouse",
@@ -132,6 +138,8 @@ def finish(tree: exp.Expression, dialect: Dialect, *, pretty: bool = True) -> st
             return exp.Anonymous(this=new, expressions=args)
 
         tree = tree.transform(rename)
+    if dialect.constant_tables == "values":
+        tree = constant_tables_as_values(tree)
     if isinstance(tree, exp.Select):
         _apply_settings(tree, dialect)
         if dialect.max_ctes:
@@ -237,6 +245,33 @@ def _apply_settings(select: exp.Select, dialect: Dialect) -> None:
         select.set("settings", [
             exp.EQ(this=exp.column(k), expression=exp.Literal.number(v)) for k, v in dialect.settings.items()
         ])
+
+
+def _constant_rows(node: exp.Expression) -> list[exp.Select] | None:
+    """The SELECTs of a UNION ALL chain of FROM-less single-row SELECTs, else None."""
+    if isinstance(node, exp.Union) and not node.args.get("distinct"):
+        left, right = _constant_rows(node.this), _constant_rows(node.expression)
+        return None if left is None or right is None else left + right
+    if isinstance(node, exp.Select) and all(not v for k, v in node.args.items() if k not in ("expressions", "kind")):
+        return [node]
+    return None
+
+
+def constant_tables_as_values(tree: exp.Expression) -> exp.Expression:
+    """Rewrite each WITH element that is a UNION ALL of constant rows as
+    ``SELECT cols FROM (VALUES (...), ...) AS name(cols)``: the same rows and column names."""
+    for cte in list(tree.find_all(exp.CTE)):
+        rows = _constant_rows(cte.this)
+        if not rows or len(rows) < 2:
+            continue
+        names = [e.alias_or_name for e in rows[0].expressions]
+        if len(set(names)) != len(names) or any(len(r.expressions) != len(names) for r in rows):
+            continue
+        tuples = [exp.Tuple(expressions=[e.unalias() for e in r.expressions]) for r in rows]
+        alias = exp.TableAlias(this=exp.to_identifier(f"{cte.alias}__rows"), columns=[exp.to_identifier(n) for n in names])
+        values = exp.Values(expressions=tuples, alias=alias)
+        cte.set("this", exp.select(*[exp.column(n) for n in names]).from_(values))
+    return tree
 
 
 def inline_ctes(select: exp.Select, limit: int) -> exp.Select:

@@ -189,6 +189,11 @@ def duckdb_engine(path: str | None = None, connection: Any = None) -> Engine:
 # The self-contained readout (--readout) is a long chain of CTEs; Spark's analyzer stops
 # after 100 fixed-point iterations by default, which such a plan can need more than.
 SPARK_ANALYZER_ITERATIONS = 1000
+# Planning that chain takes Spark's analyzer more than local mode's default 1 GB driver
+# heap (measured on the five-metric test spec, pyspark 4.3: out of heap at 1 GB once the
+# session had run another query, about 50 s of planning at 4 GB). A session that sqlstat
+# starts in local mode gets this much unless the URL says otherwise.
+SPARK_LOCAL_DRIVER_MEMORY = "4g"
 
 
 def _allow_deep_plans(session: Any) -> None:
@@ -305,6 +310,8 @@ def _spark_from_url(url: str) -> Engine:
     builder = SparkSession.builder.master(master).appName("sqlstat")
     builder = builder.config("spark.ui.enabled", "false")  # no web UI port for one query
     builder = builder.config("spark.ui.showConsoleProgress", "false")  # no progress bars on stderr
+    if master.startswith("local"):
+        builder = builder.config("spark.driver.memory", SPARK_LOCAL_DRIVER_MEMORY)
     for key, value in parse_qsl(query):
         builder = builder.config(key, value)
     try:

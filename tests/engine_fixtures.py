@@ -12,6 +12,7 @@ runs never see each other's tables; sqlstat itself only ever reads.
 
 from __future__ import annotations
 
+import datetime
 import math
 import os
 import shutil
@@ -56,6 +57,8 @@ def record_error(engine: str, got: float, expected: float, what: str = "") -> No
 
 
 def _kind(values: np.ndarray) -> str:
+    if np.issubdtype(values.dtype, np.datetime64):
+        return "date"
     if values.dtype == bool:
         return "bool"
     if np.issubdtype(values.dtype, np.integer):
@@ -67,6 +70,8 @@ def _kind(values: np.ndarray) -> str:
 
 def _python(values: np.ndarray, kind: str) -> list[Any]:
     """numpy column -> Python values for drivers; NaN becomes NULL."""
+    if kind == "date":  # datetime64[D] -> datetime.date; SQLite stores ISO text
+        return [v for v in values.astype("datetime64[D]").tolist()]
     out: list[Any] = []
     for v in values.tolist():
         if kind == "float" and (v is None or (isinstance(v, float) and math.isnan(v))):
@@ -163,7 +168,7 @@ class DuckDBDatabase(TestDatabase):
     """A DuckDB file, written by the test and read by sqlstat through duckdb:///path."""
 
     name = dialect = "duckdb"
-    types = {"int": "BIGINT", "float": "DOUBLE", "bool": "BOOLEAN", "str": "VARCHAR"}
+    types = {"int": "BIGINT", "float": "DOUBLE", "bool": "BOOLEAN", "str": "VARCHAR", "date": "DATE"}
     placeholder = "?"
 
     def __init__(self, schema: str, folder: Path):
@@ -211,7 +216,7 @@ class SQLiteDatabase(TestDatabase):
     """A SQLite file (no schemas: tables are unqualified), read through sqlite:///path."""
 
     name = dialect = "sqlite"
-    types = {"int": "INTEGER", "float": "REAL", "bool": "INTEGER", "str": "TEXT"}
+    types = {"int": "INTEGER", "float": "REAL", "bool": "INTEGER", "str": "TEXT", "date": "TEXT"}
     placeholder = "?"
 
     def __init__(self, schema: str, folder: Path):
@@ -226,7 +231,8 @@ class SQLiteDatabase(TestDatabase):
 
         con = sqlite3.connect(self.path)
         try:
-            if params:
+            if params:  # dates as ISO text, the form SQLite compares as dates
+                params = [tuple(v.isoformat() if isinstance(v, datetime.date) else v for v in row) for row in params]
                 con.executemany(sql, params)
             else:
                 con.execute(sql)
@@ -248,7 +254,7 @@ class SQLiteDatabase(TestDatabase):
 
 class PostgresDatabase(TestDatabase):
     name = dialect = "postgres"
-    types = {"int": "BIGINT", "float": "DOUBLE PRECISION", "bool": "BOOLEAN", "str": "TEXT"}
+    types = {"int": "BIGINT", "float": "DOUBLE PRECISION", "bool": "BOOLEAN", "str": "TEXT", "date": "DATE"}
 
     def __init__(self, schema: str):
         super().__init__(schema)
@@ -285,7 +291,7 @@ class PostgresDatabase(TestDatabase):
 
 class MariaDBDatabase(TestDatabase):
     name = dialect = "mysql"
-    types = {"int": "BIGINT", "float": "DOUBLE", "bool": "BOOLEAN", "str": "VARCHAR(100)"}
+    types = {"int": "BIGINT", "float": "DOUBLE", "bool": "BOOLEAN", "str": "VARCHAR(100)", "date": "DATE"}
 
     def __init__(self, schema: str):
         super().__init__(schema)
@@ -327,13 +333,13 @@ class ClickHouseDatabase(TestDatabase):
 
     name = "clickhouse"
     dialect = "clickhouse"
-    types = {"int": "Int64", "float": "Float64", "bool": "Bool", "str": "String"}
+    types = {"int": "Int64", "float": "Float64", "bool": "Bool", "str": "String", "date": "Date"}
 
     def __init__(self, schema: str, folder: Path):
         super().__init__(schema)
         import chdb
 
-        self.path = folder / "chdb"
+        self.path = chdb_folder()
         self.con = chdb.connect(str(self.path))
         self.execute(f"CREATE DATABASE IF NOT EXISTS {schema}")
 
@@ -386,7 +392,8 @@ class SparkDatabase(TestDatabase):
         names = list(columns)
         arrays = [np.asarray(columns[n]) for n in names]
         kinds = [_kind(a) for a in arrays]
-        spark_types = {"int": T.LongType(), "float": T.DoubleType(), "bool": T.BooleanType(), "str": T.StringType()}
+        spark_types = {"int": T.LongType(), "float": T.DoubleType(), "bool": T.BooleanType(), "str": T.StringType(),
+                       "date": T.DateType()}
         schema = T.StructType([
             T.StructField(column_name(n).name, spark_types[k], True) for n, k in zip(names, kinds)
         ])
@@ -426,6 +433,7 @@ def spark_session(folder: Path):
             .appName("sqlstat-tests")
             .config("spark.ui.enabled", "false")
             .config("spark.sql.shuffle.partitions", "2")  # tiny data: 200 partitions is pure overhead
+            .config("spark.driver.memory", engines.SPARK_LOCAL_DRIVER_MEMORY)  # planning the readout
             .config("spark.sql.warehouse.dir", str(folder / "spark-warehouse"))
             .config("spark.driver.extraJavaOptions", f"-Dderby.system.home={folder}")
             .getOrCreate()
@@ -473,6 +481,18 @@ def open_database(name: str, folder: Path) -> TestDatabase:
             raise
         unavailable(name, f"{type(err).__name__}: {str(err).splitlines()[0] if str(err) else ''}")
     raise ValueError(name)
+
+
+_CHDB: dict[str, Path] = {}
+
+
+def chdb_folder() -> Path:
+    """The data folder of this process's embedded ClickHouse. chdb runs one embedded server
+    per process and refuses a connection to any other path (or to memory) once it has
+    started, so every test that uses chdb connects to this one."""
+    if "path" not in _CHDB:
+        _CHDB["path"] = Path(tempfile.mkdtemp(prefix="sqlstat-chdb-"))
+    return _CHDB["path"]
 
 
 def scratch_folder() -> Path:

@@ -19,9 +19,11 @@ import math
 import os
 import re
 import sqlite3
+import tempfile
 import textwrap
 import uuid
 from dataclasses import dataclass
+from pathlib import Path
 
 import numpy as np
 import pytest
@@ -217,10 +219,14 @@ class Engine:
         self.assignment, self.events = assignment, events
         self._explain = explain
 
-    def run(self, sql: str) -> list[dict]:
+    def fetch(self, sql: str) -> list[dict]:
+        """Any query's rows, normalised as sqlstat's engines return them."""
         cur = self.con.cursor()
         cur.execute(sql)
-        rows = normalise_rows([c[0] for c in cur.description], cur.fetchall())
+        return normalise_rows([c[0] for c in cur.description], cur.fetchall())
+
+    def run(self, sql: str) -> list[dict]:
+        rows = self.fetch(sql)
         for r in rows:
             r["day"] = _day(r["day"])
         return rows
@@ -340,7 +346,81 @@ def _mariadb(data: Data, tag: str):
     con.close()
 
 
-OPENERS = {"duckdb": _duckdb, "sqlite": _sqlite, "postgres": _postgres, "mariadb": _mariadb}
+class SparkEngine(Engine):
+    def fetch(self, sql: str) -> list[dict]:
+        frame = self.con.sql(sql)
+        return normalise_rows(list(frame.columns), [tuple(r) for r in frame.collect()])
+
+
+def _spark(data: Data, tag: str):
+    try:
+        from .engine_fixtures import spark_session
+
+        session = spark_session(Path(tempfile.mkdtemp(prefix="sqlstat-daily-spark-")))
+    except Exception as err:  # noqa: BLE001 - no pyspark or no Java
+        _fail_or_skip(f"Spark (pyspark, local mode) cannot start: {err}")
+    from pyspark.sql import types as T
+
+    from sqlstat.engines import _allow_deep_plans
+
+    _allow_deep_plans(session)
+    schema = f"sqlstat_daily_{tag}"
+    session.sql(f"CREATE DATABASE IF NOT EXISTS {schema}")
+    a, e = f"{schema}.asg_{tag}", f"{schema}.ev_{tag}"
+    asg_type = T.StructType([T.StructField("unit", T.LongType()), T.StructField("arm", T.StringType()),
+                             T.StructField("entered", T.TimestampType())])
+    ev_type = T.StructType([T.StructField("unit", T.LongType()), T.StructField("amount", T.DoubleType()),
+                            T.StructField("converted", T.BooleanType()), T.StructField("happened", T.TimestampType())])
+    session.createDataFrame(data.assignment, asg_type).write.mode("overwrite").saveAsTable(a)
+    session.createDataFrame(data.events, ev_type).write.mode("overwrite").saveAsTable(e)
+
+    def explain(engine, sql):
+        # Spark pastes a CTE at each reference; a scan shared through exchange reuse
+        # prints as ReusedExchange, not as a second FileScan of the table.
+        plan = str(session.sql(sql)._jdf.queryExecution().executedPlan().toString())
+        scans = [line for line in plan.splitlines() if "Scan " in line]
+        return {t: sum(1 for line in scans if t.split(".")[1] in line) for t in (a, e)}
+
+    yield SparkEngine("spark", session, "spark", a, e, explain)
+    session.sql(f"DROP DATABASE IF EXISTS {schema} CASCADE")
+
+
+def _clickhouse(data: Data, tag: str):
+    try:
+        from chdb import dbapi
+
+        from .engine_fixtures import chdb_folder
+
+        con = dbapi.connect(str(chdb_folder()))
+    except Exception as err:  # noqa: BLE001
+        _fail_or_skip(f"chdb (embedded ClickHouse) cannot start: {err}")
+    schema = f"sqlstat_daily_{tag}"
+    a, e = f"{schema}.asg_{tag}", f"{schema}.ev_{tag}"
+    cur = con.cursor()
+    cur.execute(f"CREATE DATABASE IF NOT EXISTS {schema}")
+    cur.execute(f"CREATE TABLE {a} (unit Int64, arm String, entered DateTime) ENGINE = MergeTree ORDER BY tuple()")
+    cur.execute(f"CREATE TABLE {e} (unit Int64, amount Nullable(Float64), converted Bool, "
+                f"happened Nullable(DateTime)) ENGINE = MergeTree ORDER BY tuple()")
+    iso = lambda t: None if t is None else t.strftime("%Y-%m-%d %H:%M:%S")  # noqa: E731
+    for table, rows in ((a, [(u, arm, iso(t)) for u, arm, t in data.assignment]),
+                        (e, [(u, x, c, iso(t)) for u, x, c, t in data.events])):
+        # chdb's cursor takes no parameters: literal rows, printed by sqlglot
+        values = sqlglot.exp.values([tuple(sqlglot.exp.convert(v) for v in r) for r in rows])
+        cur.execute(f"INSERT INTO {table} {values.sql(dialect='clickhouse')}")
+
+    def explain(engine, sql):
+        c = con.cursor()
+        c.execute("EXPLAIN " + sql)
+        plan = "\n".join(str(r[0]) for r in c.fetchall())
+        return {t: plan.count(f"ReadFromMergeTree ({t})") for t in (a, e)}
+
+    yield Engine("clickhouse", con, "clickhouse", a, e, explain)
+    cur.execute(f"DROP DATABASE IF EXISTS {schema}")
+    con.close()
+
+
+OPENERS = {"duckdb": _duckdb, "sqlite": _sqlite, "postgres": _postgres, "mariadb": _mariadb,
+           "spark": _spark, "clickhouse": _clickhouse}
 DATA = make_data(420)
 
 
@@ -473,9 +553,7 @@ def test_last_day_is_the_main_query(engine):
     (here every unit has an entry time, so both see the same units)."""
     experiment = daily_experiment(engine)
     daily = engine.run(compile_daily(experiment, engine.dialect))
-    cur = engine.con.cursor()
-    cur.execute(compile_sql(experiment, engine.dialect))
-    main = normalise_rows([c[0] for c in cur.description], cur.fetchall())
+    main = engine.fetch(compile_sql(experiment, engine.dialect))
     last = max(r["day"] for r in daily)
     final = {(r["metric"], r["arm"]): r for r in daily if r["day"] == last}
     assert len(final) == len(main)
@@ -584,9 +662,7 @@ def test_daily_readout_last_day_equals_the_readout_and_always_valid_is_a_running
     rises from one day to the next (running minimum over looks, Johari et al. 2017)."""
     experiment = daily_experiment(engine, extra="always_valid = true\nmixing_sd = 0.2")
     daily = engine.run(compile_daily(experiment, engine.dialect, readout=True))
-    cur = engine.con.cursor()
-    cur.execute(compile_sql(experiment, engine.dialect, readout=True))
-    main = normalise_rows([c[0] for c in cur.description], cur.fetchall())
+    main = engine.fetch(compile_sql(experiment, engine.dialect, readout=True))
     last = max(r["day"] for r in daily)
     final = {(r["metric"], r["arm"]): r for r in daily if r["day"] == last}
     assert len(final) == len(main)

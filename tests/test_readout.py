@@ -67,12 +67,6 @@ def close(engine: str, got, expected, what: str, *, rel: float = 1e-9, abs_: flo
 
 
 def test_readout_columns_equal_the_python_layer(engine_db, readout_spec):
-    if engine_db.name == "spark":
-        # Measured here (pyspark 4.3, local mode): the analyzer runs out of heap on this
-        # plan, and even a one-metric readout fails at run time with a ClassCastException
-        # inside UnionExec. The plain query runs on Spark (test_engines.py); there, read
-        # the results through the Python layer. Kept as an expected failure, not run.
-        pytest.xfail("the --readout query does not run on Spark SQL 4.3 (documented limitation)")
     with engine_db.engine() as eng:
         plain = eng.run(sqlstat.sql(readout_spec, engine_db.dialect))
         rows = eng.run(sqlstat.sql(readout_spec, engine_db.dialect, readout=True))
@@ -105,3 +99,34 @@ def test_readout_columns_equal_the_python_layer(engine_db, readout_spec):
             assert bool(row["guardrail_harm"]) == r.guardrail.harm, what
         assert row["verdict"] == verdicts[r.arm], what
         close(name, row["srm_p_value"], analysis.sample_ratio.p_value, what + " sample-ratio p", rel=1e-9)
+
+
+def test_no_step_of_the_query_is_read_twice():
+    """Spark inlines every deterministic CTE and ClickHouse pastes a CTE at each reference,
+    so a CTE read twice doubles the plan of everything before it (the readout once ran
+    Spark's planner out of heap that way). Only constant tables may be read more than once."""
+    import collections
+
+    import sqlglot
+    from sqlglot import exp
+
+    from sqlstat.compile import compile_daily
+
+    extra = 'segments = ["region"]\narms = ["control", "treatment", "variant_b"]\nalways_valid = true'
+    spec = sqlstat.parse_spec(spec_text(*METRICS, extra_experiment=extra,
+                                        assignment_source="a.parquet", events_source="e.parquet"))
+    from .test_daily import spec_text as daily_spec_text
+
+    daily = sqlstat.parse_spec(daily_spec_text("a.parquet", "e.parquet", extra="always_valid = true"))
+    queries = {
+        "plain": sqlstat.sql(spec, "duckdb"),
+        "readout": sqlstat.sql(spec, "duckdb", readout=True),
+        "daily readout": compile_daily(daily, "duckdb", readout=True),
+    }
+    for what, text in queries.items():
+        tree = sqlglot.parse_one(text, read="duckdb")
+        ctes = {c.alias: c for c in tree.find_all(exp.CTE)}
+        reads = collections.Counter(t.name for t in tree.find_all(exp.Table) if t.name in ctes)
+        for name, count in reads.items():
+            constant = not any(isinstance(t, exp.Table) for t in ctes[name].this.find_all(exp.Table))
+            assert count == 1 or constant, f"{what}: CTE {name} is read {count} times"

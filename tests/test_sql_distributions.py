@@ -105,32 +105,28 @@ def _connect_clickhouse():
         from chdb import dbapi
     except ImportError:
         _absent("chdb (embedded ClickHouse) is not installed")
-    con = dbapi.connect()
+    from .engine_fixtures import chdb_folder
+
+    con = dbapi.connect(str(chdb_folder()))  # the process's one embedded server
     return _dbapi_runner(con), con.close
 
 
 @pytest.fixture(scope="session")
-def spark_session():
-    """One local Spark session for the whole run (slow to start), ANSI mode on."""
+def spark_session(tmp_path_factory):
+    """The run's one local Spark session (slow to start; stopped at the end of the run),
+    with ANSI mode on, so that any overflow or division by zero is an error here."""
     try:
-        from pyspark.sql import SparkSession
-    except ImportError:
-        _absent("pyspark is not installed")
-    try:
-        spark = (
-            SparkSession.builder.master("local[1]")
-            .appName("sqlstat-distribution-tests")
-            .config("spark.sql.ansi.enabled", "true")
-            .config("spark.sql.shuffle.partitions", "1")
-            .config("spark.ui.enabled", "false")
-            .config("spark.driver.memory", "1g")
-            .getOrCreate()
-        )
-    except Exception as err:  # noqa: BLE001 - no Java, no Spark
+        import pyspark  # noqa: F401
+
+        from .engine_fixtures import spark_session as shared_session
+
+        spark = shared_session(tmp_path_factory.mktemp("spark"))
+    except Exception as err:  # noqa: BLE001 - no pyspark, no Java, no Spark
         _absent(f"Spark cannot start: {err}")
-    spark.sparkContext.setLogLevel("ERROR")
+    was = spark.conf.get("spark.sql.ansi.enabled", "true")
+    spark.conf.set("spark.sql.ansi.enabled", "true")
     yield spark
-    spark.stop()
+    spark.conf.set("spark.sql.ansi.enabled", was)
 
 
 @pytest.fixture(scope="module", params=ENGINES)

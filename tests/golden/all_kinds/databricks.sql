@@ -81,76 +81,89 @@ WITH `assigned_units` AS (
     `arm_label`
 ), `metric_list` AS (
   SELECT
-    0 AS `metric_index`,
-    'ordered' AS `metric`,
-    'proportion' AS `kind`,
-    'primary' AS `role`,
-    'two_proportion_z' AS `method`,
-    CAST(NULL AS DOUBLE) AS `sigma`,
-    CAST(NULL AS STRING) AS `direction`,
-    CAST(NULL AS DOUBLE) AS `margin`,
-    CAST(NULL AS DOUBLE) AS `relative_margin`,
-    CAST(NULL AS DOUBLE) AS `target`
-  UNION ALL
-  SELECT
-    1 AS `metric_index`,
-    'revenue' AS `metric`,
-    'mean' AS `kind`,
-    'secondary' AS `role`,
-    'welch_t' AS `method`,
-    CAST(NULL AS DOUBLE) AS `sigma`,
-    CAST(NULL AS STRING) AS `direction`,
-    CAST(NULL AS DOUBLE) AS `margin`,
-    CAST(NULL AS DOUBLE) AS `relative_margin`,
-    CAST(NULL AS DOUBLE) AS `target`
-  UNION ALL
-  SELECT
-    2 AS `metric_index`,
-    'revenue_pooled' AS `metric`,
-    'mean' AS `kind`,
-    'secondary' AS `role`,
-    'student_t' AS `method`,
-    CAST(NULL AS DOUBLE) AS `sigma`,
-    CAST(NULL AS STRING) AS `direction`,
-    CAST(NULL AS DOUBLE) AS `margin`,
-    CAST(NULL AS DOUBLE) AS `relative_margin`,
-    CAST(NULL AS DOUBLE) AS `target`
-  UNION ALL
-  SELECT
-    3 AS `metric_index`,
-    'revenue_known_sigma' AS `metric`,
-    'mean' AS `kind`,
-    'secondary' AS `role`,
-    'z_known_sigma' AS `method`,
-    CAST(42.5 AS DOUBLE) AS `sigma`,
-    CAST(NULL AS STRING) AS `direction`,
-    CAST(NULL AS DOUBLE) AS `margin`,
-    CAST(NULL AS DOUBLE) AS `relative_margin`,
-    CAST(NULL AS DOUBLE) AS `target`
-  UNION ALL
-  SELECT
-    4 AS `metric_index`,
-    'items_per_order' AS `metric`,
-    'mean' AS `kind`,
-    'secondary' AS `role`,
-    'welch_t' AS `method`,
-    CAST(NULL AS DOUBLE) AS `sigma`,
-    CAST(NULL AS STRING) AS `direction`,
-    CAST(NULL AS DOUBLE) AS `margin`,
-    CAST(NULL AS DOUBLE) AS `relative_margin`,
-    CAST(NULL AS DOUBLE) AS `target`
-  UNION ALL
-  SELECT
-    5 AS `metric_index`,
-    'average_items' AS `metric`,
-    'mean' AS `kind`,
-    'secondary' AS `role`,
-    'welch_t' AS `method`,
-    CAST(NULL AS DOUBLE) AS `sigma`,
-    CAST(NULL AS STRING) AS `direction`,
-    CAST(NULL AS DOUBLE) AS `margin`,
-    CAST(NULL AS DOUBLE) AS `relative_margin`,
-    CAST(NULL AS DOUBLE) AS `target`
+    `metric_index`,
+    `metric`,
+    `kind`,
+    `role`,
+    `method`,
+    `sigma`,
+    `direction`,
+    `margin`,
+    `relative_margin`,
+    `target`
+  FROM VALUES
+    (
+      0,
+      'ordered',
+      'proportion',
+      'primary',
+      'two_proportion_z',
+      CAST(NULL AS DOUBLE),
+      CAST(NULL AS STRING),
+      CAST(NULL AS DOUBLE),
+      CAST(NULL AS DOUBLE),
+      CAST(NULL AS DOUBLE)
+    ),
+    (
+      1,
+      'revenue',
+      'mean',
+      'secondary',
+      'welch_t',
+      CAST(NULL AS DOUBLE),
+      CAST(NULL AS STRING),
+      CAST(NULL AS DOUBLE),
+      CAST(NULL AS DOUBLE),
+      CAST(NULL AS DOUBLE)
+    ),
+    (
+      2,
+      'revenue_pooled',
+      'mean',
+      'secondary',
+      'student_t',
+      CAST(NULL AS DOUBLE),
+      CAST(NULL AS STRING),
+      CAST(NULL AS DOUBLE),
+      CAST(NULL AS DOUBLE),
+      CAST(NULL AS DOUBLE)
+    ),
+    (
+      3,
+      'revenue_known_sigma',
+      'mean',
+      'secondary',
+      'z_known_sigma',
+      CAST(42.5 AS DOUBLE),
+      CAST(NULL AS STRING),
+      CAST(NULL AS DOUBLE),
+      CAST(NULL AS DOUBLE),
+      CAST(NULL AS DOUBLE)
+    ),
+    (
+      4,
+      'items_per_order',
+      'mean',
+      'secondary',
+      'welch_t',
+      CAST(NULL AS DOUBLE),
+      CAST(NULL AS STRING),
+      CAST(NULL AS DOUBLE),
+      CAST(NULL AS DOUBLE),
+      CAST(NULL AS DOUBLE)
+    ),
+    (
+      5,
+      'average_items',
+      'mean',
+      'secondary',
+      'welch_t',
+      CAST(NULL AS DOUBLE),
+      CAST(NULL AS STRING),
+      CAST(NULL AS DOUBLE),
+      CAST(NULL AS DOUBLE),
+      CAST(NULL AS DOUBLE)
+    ) AS `metric_list__rows`(`metric_index`, `metric`, `kind`, `role`, `method`, `sigma`, `direction`, `margin`, `relative_margin`, `target`)
 ), `per_arm` AS (
   SELECT
     `m`.`metric_index`,

@@ -85,12 +85,11 @@ WITH `assigned_units` AS (
   FROM `unit_joined`
 ), `segment_list` AS (
   SELECT
-    0 AS `segment_index`,
-    CAST(NULL AS STRING) AS `segment`
-  UNION ALL
-  SELECT
-    1 AS `segment_index`,
-    'platform' AS `segment`
+    `segment_index`,
+    `segment`
+  FROM VALUES
+    (0, CAST(NULL AS STRING)),
+    (1, 'platform') AS `segment_list__rows`(`segment_index`, `segment`)
 ), `unit_segments` AS (
   SELECT
     `u`.`arm_label`,
@@ -137,40 +136,53 @@ WITH `assigned_units` AS (
     `segment_value`
 ), `metric_list` AS (
   SELECT
-    0 AS `metric_index`,
-    'active' AS `metric`,
-    'proportion' AS `kind`,
-    'primary' AS `role`,
-    'two_proportion_z' AS `method`,
-    CAST(NULL AS DOUBLE) AS `sigma`,
-    'higher' AS `direction`,
-    CAST(NULL AS DOUBLE) AS `margin`,
-    CAST(NULL AS DOUBLE) AS `relative_margin`,
-    CAST(0.4 AS DOUBLE) AS `target`
-  UNION ALL
-  SELECT
-    1 AS `metric_index`,
-    'visits' AS `metric`,
-    'mean' AS `kind`,
-    'guardrail' AS `role`,
-    'cuped_welch_t' AS `method`,
-    CAST(NULL AS DOUBLE) AS `sigma`,
-    'higher' AS `direction`,
-    CAST(NULL AS DOUBLE) AS `margin`,
-    CAST(0.05 AS DOUBLE) AS `relative_margin`,
-    CAST(NULL AS DOUBLE) AS `target`
-  UNION ALL
-  SELECT
-    2 AS `metric_index`,
-    'spend_per_visit' AS `metric`,
-    'ratio' AS `kind`,
-    'secondary' AS `role`,
-    'ratio_delta_z' AS `method`,
-    CAST(NULL AS DOUBLE) AS `sigma`,
-    CAST(NULL AS STRING) AS `direction`,
-    CAST(NULL AS DOUBLE) AS `margin`,
-    CAST(NULL AS DOUBLE) AS `relative_margin`,
-    CAST(NULL AS DOUBLE) AS `target`
+    `metric_index`,
+    `metric`,
+    `kind`,
+    `role`,
+    `method`,
+    `sigma`,
+    `direction`,
+    `margin`,
+    `relative_margin`,
+    `target`
+  FROM VALUES
+    (
+      0,
+      'active',
+      'proportion',
+      'primary',
+      'two_proportion_z',
+      CAST(NULL AS DOUBLE),
+      'higher',
+      CAST(NULL AS DOUBLE),
+      CAST(NULL AS DOUBLE),
+      CAST(0.4 AS DOUBLE)
+    ),
+    (
+      1,
+      'visits',
+      'mean',
+      'guardrail',
+      'cuped_welch_t',
+      CAST(NULL AS DOUBLE),
+      'higher',
+      CAST(NULL AS DOUBLE),
+      CAST(0.05 AS DOUBLE),
+      CAST(NULL AS DOUBLE)
+    ),
+    (
+      2,
+      'spend_per_visit',
+      'ratio',
+      'secondary',
+      'ratio_delta_z',
+      CAST(NULL AS DOUBLE),
+      CAST(NULL AS STRING),
+      CAST(NULL AS DOUBLE),
+      CAST(NULL AS DOUBLE),
+      CAST(NULL AS DOUBLE)
+    ) AS `metric_list__rows`(`metric_index`, `metric`, `kind`, `role`, `method`, `sigma`, `direction`, `margin`, `relative_margin`, `target`)
 ), `per_arm` AS (
   SELECT
     `m`.`metric_index`,

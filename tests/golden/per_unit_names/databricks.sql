@@ -31,28 +31,41 @@ WITH `unit_level` AS (
     `arm_label`
 ), `metric_list` AS (
   SELECT
-    0 AS `metric_index`,
-    'basket' AS `metric`,
-    'mean' AS `kind`,
-    'primary' AS `role`,
-    'welch_t' AS `method`,
-    CAST(NULL AS DOUBLE) AS `sigma`,
-    CAST(NULL AS STRING) AS `direction`,
-    CAST(NULL AS DOUBLE) AS `margin`,
-    CAST(NULL AS DOUBLE) AS `relative_margin`,
-    CAST(NULL AS DOUBLE) AS `target`
-  UNION ALL
-  SELECT
-    1 AS `metric_index`,
-    'returned' AS `metric`,
-    'proportion' AS `kind`,
-    'secondary' AS `role`,
-    'two_proportion_z' AS `method`,
-    CAST(NULL AS DOUBLE) AS `sigma`,
-    CAST(NULL AS STRING) AS `direction`,
-    CAST(NULL AS DOUBLE) AS `margin`,
-    CAST(NULL AS DOUBLE) AS `relative_margin`,
-    CAST(NULL AS DOUBLE) AS `target`
+    `metric_index`,
+    `metric`,
+    `kind`,
+    `role`,
+    `method`,
+    `sigma`,
+    `direction`,
+    `margin`,
+    `relative_margin`,
+    `target`
+  FROM VALUES
+    (
+      0,
+      'basket',
+      'mean',
+      'primary',
+      'welch_t',
+      CAST(NULL AS DOUBLE),
+      CAST(NULL AS STRING),
+      CAST(NULL AS DOUBLE),
+      CAST(NULL AS DOUBLE),
+      CAST(NULL AS DOUBLE)
+    ),
+    (
+      1,
+      'returned',
+      'proportion',
+      'secondary',
+      'two_proportion_z',
+      CAST(NULL AS DOUBLE),
+      CAST(NULL AS STRING),
+      CAST(NULL AS DOUBLE),
+      CAST(NULL AS DOUBLE),
+      CAST(NULL AS DOUBLE)
+    ) AS `metric_list__rows`(`metric_index`, `metric`, `kind`, `role`, `method`, `sigma`, `direction`, `margin`, `relative_margin`, `target`)
 ), `per_arm` AS (
   SELECT
     `m`.`metric_index`,
