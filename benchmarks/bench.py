@@ -135,7 +135,7 @@ def readout_cost(path: Path, repeat: int) -> tuple[list[float], list[float]]:
 
     import sqlstat
 
-    experiment = sqlstat.parse_spec(spec(path, 3, False, True))
+    experiment = sqlstat.load_spec(spec(path, 3, False, True))
     queries = {False: sqlstat.sql(experiment, "duckdb"), True: sqlstat.sql(experiment, "duckdb", readout=True)}
     con = duckdb.connect()
     con.execute(f"SET file_search_path = '{path.parent}'")

@@ -323,5 +323,7 @@ def test_demo_query_reads_each_source_file_once():
 
     from .conftest import PROJECT
 
-    plan = duckdb.sql("EXPLAIN " + sqlstat.sql(PROJECT / "sample_data" / "return_reminders.toml")).fetchall()[0][1]
-    assert plan.count("READ_PARQUET") == 2
+    spec = PROJECT / "sample_data" / "return_reminders.toml"
+    for readout in (False, True):  # the readout columns work on the result rows only
+        plan = duckdb.sql("EXPLAIN " + sqlstat.sql(spec, readout=readout)).fetchall()[0][1]
+        assert plan.count("READ_PARQUET") == 2, readout
