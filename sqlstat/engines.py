@@ -191,7 +191,7 @@ def duckdb_engine(path: str | None = None, connection: Any = None) -> Engine:
 SPARK_ANALYZER_ITERATIONS = 1000
 # Planning that chain takes Spark's analyzer more than local mode's default 1 GB driver
 # heap (measured on the five-metric test spec, pyspark 4.3: out of heap at 1 GB once the
-# session had run another query, about 50 s of planning at 4 GB). A session that sqlstat
+# session had run another query; 25 to 50 s of planning at 4 GB). A session that sqlstat
 # starts in local mode gets this much unless the URL says otherwise.
 SPARK_LOCAL_DRIVER_MEMORY = "4g"
 

@@ -348,8 +348,9 @@ def _mariadb(data: Data, tag: str):
 
 class SparkEngine(Engine):
     def fetch(self, sql: str) -> list[dict]:
-        frame = self.con.sql(sql)
-        return normalise_rows(list(frame.columns), [tuple(r) for r in frame.collect()])
+        from sqlstat.engines import spark_engine
+
+        return spark_engine(self.con).run(sql)
 
 
 def _spark(data: Data, tag: str):
@@ -361,9 +362,6 @@ def _spark(data: Data, tag: str):
         _fail_or_skip(f"Spark (pyspark, local mode) cannot start: {err}")
     from pyspark.sql import types as T
 
-    from sqlstat.engines import _allow_deep_plans
-
-    _allow_deep_plans(session)
     schema = f"sqlstat_daily_{tag}"
     session.sql(f"CREATE DATABASE IF NOT EXISTS {schema}")
     a, e = f"{schema}.asg_{tag}", f"{schema}.ev_{tag}"
@@ -389,7 +387,7 @@ def _clickhouse(data: Data, tag: str):
     try:
         from chdb import dbapi
 
-        from .engine_fixtures import chdb_folder
+        from .engine_fixtures import chdb_folder, insert_literal_rows
 
         con = dbapi.connect(str(chdb_folder()))
     except Exception as err:  # noqa: BLE001
@@ -402,11 +400,8 @@ def _clickhouse(data: Data, tag: str):
     cur.execute(f"CREATE TABLE {e} (unit Int64, amount Nullable(Float64), converted Bool, "
                 f"happened Nullable(DateTime)) ENGINE = MergeTree ORDER BY tuple()")
     iso = lambda t: None if t is None else t.strftime("%Y-%m-%d %H:%M:%S")  # noqa: E731
-    for table, rows in ((a, [(u, arm, iso(t)) for u, arm, t in data.assignment]),
-                        (e, [(u, x, c, iso(t)) for u, x, c, t in data.events])):
-        # chdb's cursor takes no parameters: literal rows, printed by sqlglot
-        values = sqlglot.exp.values([tuple(sqlglot.exp.convert(v) for v in r) for r in rows])
-        cur.execute(f"INSERT INTO {table} {values.sql(dialect='clickhouse')}")
+    insert_literal_rows(cur, a, [(u, arm, iso(t)) for u, arm, t in data.assignment])
+    insert_literal_rows(cur, e, [(u, x, c, iso(t)) for u, x, c, t in data.events])
 
     def explain(engine, sql):
         # EXPLAIN ESTIMATE sums the rows every read of a table would take (a table read
