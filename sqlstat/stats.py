@@ -261,6 +261,67 @@ def newcombe_interval(
     return d - math.sqrt((p1 - l1) ** 2 + (u2 - p2) ** 2), d + math.sqrt((u1 - p1) ** 2 + (p2 - l2) ** 2)
 
 
+def _ratio_score_statistic(ratio: float, x_t: int, n_t: int, x_c: int, n_c: int) -> float:
+    """Miettinen and Nurminen's (1985) score statistic for H0: p_t / p_c = ratio.
+
+    S = (p_t - ratio p_c) / sqrt(V), V = (q_t(1 - q_t)/n_t + ratio^2 q_c(1 - q_c)/n_c) N/(N - 1),
+    where q_t = ratio q_c and q_c are the maximum-likelihood rates under H0 (the smaller root
+    of their quadratic) and N/(N - 1) is their small-sample correction. S falls as ratio rises.
+    """
+    n = n_t + n_c
+    a = n * ratio
+    b = -(n_t * ratio + x_t + n_c + x_c * ratio)
+    c = x_t + x_c
+    q_c = (-b - math.sqrt(max(b * b - 4 * a * c, 0.0))) / (2 * a)
+    q_t = q_c * ratio
+    v = (q_t * (1 - q_t) / n_t + ratio * ratio * q_c * (1 - q_c) / n_c) * n / (n - 1)
+    diff = x_t / n_t - ratio * x_c / n_c
+    if v <= 0:
+        return math.copysign(math.inf, diff) if diff else 0.0
+    return diff / math.sqrt(v)
+
+
+def ratio_score_interval(
+    successes_t: int, n_t: int, successes_c: int, n_c: int, alpha: float
+) -> tuple[float, float]:
+    """Score interval for the ratio of two proportions p_t / p_c, valid with few events.
+
+    Koopman (1984), "Confidence intervals for the ratio of two binomial proportions",
+    Biometrics 40, 513-517, inverted the score test; Miettinen and Nurminen (1985),
+    "Comparative analysis of two rates", Statistics in Medicine 4, 213-226, added the
+    N/(N - 1) variance correction used here. The interval is every ratio R whose score
+    statistic (``_ratio_score_statistic``) lies within -/+ z_{1-alpha/2}; each end is found
+    by root finding on log R. With no events in treatment the lower end is 0; with none in
+    control the upper end is infinite (the data bound the ratio on one side only).
+    """
+    from scipy import optimize  # heavy import, only on rows with few events
+
+    if n_t <= 0 or n_c <= 0 or n_t + n_c < 2:
+        return NAN, NAN
+    z = critical_value(alpha, None)
+    x_t, x_c = int(successes_t), int(successes_c)
+    if x_t == 0 and x_c == 0:
+        return 0.0, math.inf
+
+    def s(log_r: float) -> float:
+        return _ratio_score_statistic(math.exp(log_r), x_t, n_t, x_c, n_c)
+
+    def end(target: float, step: float, bounded: bool) -> float:
+        if not bounded:
+            return 0.0 if step < 0 else math.inf
+        start = math.log((x_t / n_t) / (x_c / n_c)) if x_t and x_c else math.log(((x_t + 0.5) / n_t) / ((x_c + 0.5) / n_c))
+        inner, outer = start, start + step
+        while (s(outer) - target) * (s(inner) - target) > 0:
+            inner, outer = outer, outer + step
+            step *= 2
+            if abs(outer) > 700:
+                return 0.0 if step < 0 else math.inf
+        root = optimize.brentq(lambda u: s(u) - target, min(inner, outer), max(inner, outer), xtol=1e-14, rtol=1e-15)
+        return math.exp(root)
+
+    return end(z, -1.0, x_t > 0), end(-z, 1.0, x_c > 0)
+
+
 def fisher_exact(successes_t: int, n_t: int, successes_c: int, n_c: int) -> tuple[float, float]:
     """Fisher's (1935) exact test on the 2x2 table; returns (sample odds ratio, two-sided p).
 
@@ -456,7 +517,18 @@ def compare(metric: Metric, row: dict, alpha: float) -> TestResult:
             notes.append("interval: Wald interval with unpooled standard error")
 
     lift, lift_se = _f(row.get("relative_lift")), _f(row.get("lift_std_error"))
-    lift_lo, lift_hi = wald_interval(lift, lift_se, None, alpha)
+    if test == TEST_FISHER_EXACT:
+        # The delta-method (Wald) interval does not hold its level with this few events:
+        # the score interval for the ratio of the two rates, minus 1.
+        r_lo, r_hi = ratio_score_interval(x_t, treatment.n, x_c, control.n, alpha)
+        lift_lo, lift_hi = r_lo - 1.0, r_hi - 1.0
+        notes.append("relative-lift interval: score interval for the ratio of the two rates "
+                     "(Miettinen-Nurminen), valid with few events")
+        if x_c == 0:
+            notes.append("the control arm had no events: the relative lift is undefined and its interval "
+                         "has no upper end")
+    else:
+        lift_lo, lift_hi = wald_interval(lift, lift_se, None, alpha)
     theta = row.get("theta") if _finite(row.get("theta")) else None
     reduction = row.get("variance_reduction") if _finite(row.get("variance_reduction")) else None
     if test == TEST_CUPED_WELCH_T and reduction is not None:

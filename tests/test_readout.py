@@ -130,3 +130,22 @@ def test_no_step_of_the_query_is_read_twice():
         for name, count in reads.items():
             constant = not any(isinstance(t, exp.Table) for t in ctes[name].this.find_all(exp.Table))
             assert count == 1 or constant, f"{what}: CTE {name} is read {count} times"
+
+
+def test_readout_leaves_the_lift_interval_empty_where_the_python_layer_uses_exact_methods(tmp_path, write_spec):
+    """With fewer than 10 events the delta-method lift interval does not hold its level
+    (docs/methods.md); the SQL readout has no score interval, so it shows none, with the reason."""
+    import duckdb
+
+    from .conftest import make_experiment
+
+    make_experiment(tmp_path, units={"control": 60, "treatment": 55}, conversion={"control": 0.04, "treatment": 0.12},
+                    events_per_unit=1.0, seed=7)
+    path = write_spec(spec_text('name = "converted"\nkind = "proportion"\nvalue = "count_if(converted) > 0"'))
+    con = duckdb.connect()
+    cur = con.execute(sqlstat.sql(path, readout=True))
+    cols = [c[0] for c in cur.description]
+    (row,) = [dict(zip(cols, r)) for r in cur.fetchall()]
+    assert row["lift_ci_low"] is None and row["lift_ci_high"] is None
+    assert "no lift interval" in row["note"]
+    assert sqlstat.run(path).results[0].test == "fisher_exact"

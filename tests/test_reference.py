@@ -187,3 +187,49 @@ def test_thirty_units_rule_adds_normality_note(tmp_path, write_spec, n, noted):
     res = by_arm(analysis, "spend")["treatment"]
     assert res.test == "welch_t"
     assert any("fewer than 30" in note for note in res.notes) is noted
+
+
+def test_fisher_rows_carry_the_score_interval_for_the_relative_lift(tmp_path, write_spec):
+    """With few events the relative lift's interval is the score interval for the ratio of
+    the two rates, minus 1 (reference: statsmodels confint_proportions_2indep,
+    compare="ratio", method="score", which applies Miettinen and Nurminen's correction)."""
+    from statsmodels.stats.proportion import confint_proportions_2indep
+
+    syn = make_experiment(tmp_path, units={"control": 60, "treatment": 55, "variant_b": 50},
+                          conversion={"control": 0.04, "treatment": 0.12, "variant_b": 0.07},
+                          events_per_unit=1.0, seed=7)
+    analysis = sqlstat.run(write_spec(spec_text(CONVERTED)))
+    values = syn.unit_values(lambda r: float(r["converted"].any()))
+    xc, nc = int(values["control"].sum()), values["control"].size
+    for arm, res in by_arm(analysis, "converted").items():
+        xt, nt = int(values[arm].sum()), values[arm].size
+        assert res.test == "fisher_exact" and xt > 0 and xc > 0
+        lo, hi = confint_proportions_2indep(xt, nt, xc, nc, compare="ratio", method="score")  # reference: statsmodels
+        assert res.lift_ci_low == approx(lo - 1) and res.lift_ci_high == approx(hi - 1)
+        assert res.relative_lift == approx((xt / nt) / (xc / nc) - 1)
+        assert any("score interval for the ratio" in n for n in res.notes)
+    # the function itself on more tables, against the same reference
+    for xt, nt, xc, nc in [(3, 50, 1, 50), (9, 500, 3, 480), (1, 30, 1, 30), (0, 40, 3, 40), (4, 30, 0, 30)]:
+        lo, hi = confint_proportions_2indep(xt, nt, xc, nc, compare="ratio", method="score")  # reference: statsmodels
+        got = st.ratio_score_interval(xt, nt, xc, nc, 0.05)
+        assert got[0] == pytest.approx(max(lo, 0.0), rel=REL, abs=1e-12)
+        assert got[1] == approx(hi) if np.isfinite(hi) else got[1] == np.inf
+
+
+def test_fisher_row_without_control_events_has_an_open_lift_interval(tmp_path, write_spec):
+    """No events in control: the ratio is bounded below only; JSON shows null for the open end."""
+    import json
+
+    from sqlstat import report
+
+    write_parquet(tmp_path / "assignments.parquet", {"unit": np.arange(60), "arm": np.array(["control", "treatment"] * 30)})
+    write_parquet(tmp_path / "events.parquet", {"unit": np.arange(60), "amount": np.ones(60),
+                                                "converted": (np.arange(60) % 2 == 1) & (np.arange(60) < 12)})
+    analysis = sqlstat.run(write_spec(spec_text(CONVERTED)))
+    res = by_arm(analysis, "converted")["treatment"]
+    assert res.test == "fisher_exact"
+    lo, hi = confint_proportions_2indep(6, 30, 0, 30, compare="ratio", method="score")  # reference: statsmodels
+    assert res.lift_ci_low == approx(lo - 1) and res.lift_ci_high == np.inf == hi
+    assert any("no upper end" in n for n in res.notes)
+    row = [r for r in json.loads(report.to_json(analysis))["results"] if r["metric"] == "converted"][0]
+    assert row["lift_ci_high"] is None and row["lift_ci_low"] == approx(lo - 1)
