@@ -329,6 +329,77 @@ def test_demo_query_reads_each_source_file_once():
         assert plan.count("READ_PARQUET") == 2, readout
 
 
+# ------------------------------------------------------------------ one variance convention per result
+
+
+def _delta_lift_se(grad: np.ndarray, cov: np.ndarray) -> float:
+    """Delta method, independently: sqrt(g' Sigma g) for the gradient g of the lift."""
+    return float(np.sqrt(grad @ cov @ grad))
+
+
+def _independent_lift(test: str, t: np.ndarray, c: np.ndarray, sigma: float | None = None) -> tuple[float, float]:
+    """Relative lift T/C - 1 and its delta-method standard error from raw unit values (numpy),
+    with the variance of each arm's mean in the convention of the difference's test
+    (docs/methods.md): p(1 - p)/n for proportions, the pooled variance for Student's t,
+    sigma^2/n for a known sigma, the sample variance / n for Welch's t."""
+    T, C = t.mean(), c.mean()
+    if test == "two_proportion_z":
+        vt, vc = np.var(t) / t.size, np.var(c) / c.size  # p(1 - p)/n: ddof = 0 on 0/1 values
+    elif test == "student_t":
+        pooled = ((t.size - 1) * np.var(t, ddof=1) + (c.size - 1) * np.var(c, ddof=1)) / (t.size + c.size - 2)
+        vt, vc = pooled / t.size, pooled / c.size
+    elif test == "z_known_sigma":
+        vt, vc = sigma**2 / t.size, sigma**2 / c.size
+    else:
+        vt, vc = np.var(t, ddof=1) / t.size, np.var(c, ddof=1) / c.size
+    grad = np.array([1 / C, -T / C**2])
+    return T / C - 1, _delta_lift_se(grad, np.diag([vt, vc]))
+
+
+@pytest.mark.parametrize("metric, test, sigma", [
+    ('name = "m"\nkind = "proportion"\nvalue = "count_if(converted) > 0"', "two_proportion_z", None),
+    ('name = "m"\nkind = "mean"\nvalue = "sum(amount)"', "welch_t", None),
+    ('name = "m"\nkind = "mean"\nvalue = "sum(amount)"\nequal_variance = true', "student_t", None),
+    ('name = "m"\nkind = "mean"\nvalue = "sum(amount)"\nsigma = 30.0', "z_known_sigma", 30.0),
+])
+def test_lift_and_relative_guardrail_use_the_test_variance_convention(tmp_path, write_spec, metric, test, sigma):
+    syn = make_experiment(tmp_path, units={"control": 900, "treatment": 700}, conversion={"control": 0.3, "treatment": 0.34},
+                          spend_mean={"control": 20.0, "treatment": 21.0}, spend_sd={"control": 9.0, "treatment": 13.0},
+                          seed=31)
+    guard = '\nrole = "guardrail"\nbetter = "higher"\nrelative_margin = 0.05'
+    res = overall(sqlstat.run(write_spec(spec_text(metric + guard))), "m")["treatment"]
+    fn = (lambda r: float(r["converted"].any())) if test == "two_proportion_z" else (lambda r: r["amount"].sum())
+    values = syn.unit_values(fn)
+    t, c = values["treatment"], values["control"]
+    lift, se = _independent_lift(test, t, c, sigma)
+    assert res.test == test
+    assert res.relative_lift == approx(lift)
+    assert res.lift_std_error == approx(se)
+    z = sps.norm.ppf(0.975)  # reference: scipy.stats.norm
+    assert res.lift_ci_low == approx(lift - z * se) and res.lift_ci_high == approx(lift + z * se)
+    g = res.guardrail
+    assert g.statistic == approx((lift + 0.05) / se)
+    crit = sps.norm.ppf(0.95) if res.df is None else sps.t.ppf(0.95, res.df)  # reference: scipy.stats
+    assert g.bound == approx(lift - crit * se)
+
+
+def test_cuped_lift_uses_the_covariance_of_the_adjusted_difference_with_control(cuped, write_spec):
+    metric = 'name = "spend"\nkind = "mean"\nvalue = "sum(amount)"\ncovariate = "sum(amount)"'
+    analysis = sqlstat.run(write_spec(spec_text(metric) + PRE))
+    for arm, res in overall(analysis, "spend").items():
+        t, c = cuped[cuped["arm"] == arm], cuped[cuped["arm"] == "control"]
+        th = res.theta
+        # L = D / C with D = (yt - th xt) - (yc - th xc), C = yc; variables (yt, xt, yc, xc)
+        D = (t["y"].mean() - th * t["x"].mean()) - (c["y"].mean() - th * c["x"].mean())
+        C = c["y"].mean()
+        grad = np.array([1 / C, -th / C, -(C + D) / C**2, th / C])
+        cov = np.zeros((4, 4))
+        cov[:2, :2] = np.cov(t["y"], t["x"], ddof=1) / len(t)
+        cov[2:, 2:] = np.cov(c["y"], c["x"], ddof=1) / len(c)
+        assert res.relative_lift == approx(D / C)
+        assert res.lift_std_error == approx(_delta_lift_se(grad, cov))
+
+
 # ------------------------------------------------------------------ relative-lift coverage with few events
 
 
