@@ -61,6 +61,11 @@ def result_dict(r: "TestResult") -> dict[str, Any]:
         "std_error": _num(r.std_error),
         "statistic": _num(r.statistic),
         "statistic_name": r.statistic_name,
+        "statistic_label": r.statistic_label,
+        "odds_ratio": None if r.statistic_name != "odds_ratio" else {
+            "estimate": _num(r.statistic), "method": "conditional_mle",
+            "ci_low": _num(r.odds_ratio_ci_low), "ci_high": _num(r.odds_ratio_ci_high),
+        },
         "df": _num(r.df),
         "p_value": _num(r.p_value),
         "p_value_adjusted": _num(r.p_value_adjusted),
@@ -123,7 +128,7 @@ CSV_COLUMNS = (
     "control_mean", "control_variance", "treatment_n", "treatment_mean", "treatment_variance", "estimate",
     "std_error", "statistic", "statistic_name", "df", "p_value", "p_value_adjusted", "correction", "ci_low",
     "ci_high", "relative_lift", "lift_ci_low", "lift_ci_high", "alpha", "significant", "guardrail_held",
-    "reason", "notes",
+    "reason", "notes", "statistic_label",
 )
 
 
@@ -140,6 +145,7 @@ def to_csv(a: "Analysis") -> str:
             _csv(r.df), _csv(r.p_value), _csv(r.p_value_adjusted), r.correction, _csv(r.ci_low), _csv(r.ci_high),
             _csv(r.relative_lift), _csv(r.lift_ci_low), _csv(r.lift_ci_high), a.alpha, str(r.significant).lower(),
             "" if r.guardrail is None else str(r.guardrail.held).lower(), r.reason, " | ".join(r.notes),
+            r.statistic_label,
         ])
     return out.getvalue()
 
@@ -178,6 +184,9 @@ def _pct(x: Any) -> str:
     return "-" if not isinstance(x, float) or not math.isfinite(x) else f"{x:+.1%}"
 
 
+# The table's short names for each statistic; the legend under the table spells them out.
+STAT_SHORT = {"z": "z", "t": "t", "odds_ratio": "OR"}
+
 CORRECTION_NAMES = {"none": "none", "holm": "Holm", "bh": "Benjamini-Hochberg"}
 
 
@@ -190,7 +199,8 @@ def _result_rows(results: list, conf: str) -> tuple[list[str], list[list[str]]]:
             r.metric if r.segment is None else f"{r.metric} [{r.segment}={r.segment_value}]", r.arm,
             _fmt(r.control.n), _fmt(r.control.mean), _fmt(r.treatment.n), _fmt(r.treatment.mean),
             _fmt(r.estimate), f"[{_fmt(r.ci_low)}, {_fmt(r.ci_high)}]", _pct(r.relative_lift), r.test,
-            f"{r.statistic_name}={_fmt(r.statistic, 3)}", f"{r.df:.1f}" if r.df is not None else "-",
+            f"{STAT_SHORT.get(r.statistic_name, r.statistic_name)}={_fmt(r.statistic, 3)}",
+            f"{r.df:.1f}" if r.df is not None else "-",
             _p(r.p_value), _p(r.p_value_adjusted) if r.correction != "none" else "-",
             "yes" if r.significant else "no",
         ])
@@ -228,6 +238,9 @@ def to_text(a: "Analysis") -> str:
     out.append(f"Results (estimate = treatment - control; lift = estimate / control; {conf} two-sided intervals):")
     headers, rows = _result_rows(list(a.overall), conf)
     out.append(_table(headers, rows))
+    if any(r.statistic_name == "odds_ratio" for r in a.results):
+        out.append("stat OR = odds ratio (conditional maximum-likelihood estimate, as Fisher's exact test "
+                   "uses), not a z or t statistic; its exact interval is in the notes")
     monitored = [r for r in a.overall if r.always_valid_p_value is not None]
     if monitored:
         out.append("")

@@ -81,7 +81,7 @@ class TestResult:
     estimate: float  # treatment - control (CUPED: the covariate-adjusted difference)
     std_error: float
     statistic: float
-    statistic_name: str  # "z", "t" or "odds_ratio"
+    statistic_name: str  # "z", "t" or "odds_ratio" (Fisher rows: the conditional maximum-likelihood estimate)
     df: float | None
     p_value: float
     ci_low: float
@@ -109,6 +109,20 @@ class TestResult:
     always_valid_p_value: float | None = None  # mSPRT, valid at every look
     sequence_low: float | None = None  # always-valid confidence sequence for the estimate
     sequence_high: float | None = None
+    odds_ratio_ci_low: float | None = None  # Fisher rows: exact interval for the conditional odds ratio
+    odds_ratio_ci_high: float | None = None
+
+    @property
+    def statistic_label(self) -> str:
+        """What ``statistic`` is, in words (every output form shows it)."""
+        return STATISTIC_LABELS.get(self.statistic_name, self.statistic_name)
+
+
+STATISTIC_LABELS = {
+    "z": "z statistic",
+    "t": "t statistic",
+    "odds_ratio": "odds ratio, conditional maximum-likelihood estimate (Fisher); not a z or t statistic",
+}
 
 
 @dataclass(frozen=True)
@@ -334,6 +348,24 @@ def fisher_exact(successes_t: int, n_t: int, successes_c: int, n_c: int) -> tupl
     return float(res.statistic), float(res.pvalue)
 
 
+def conditional_odds_ratio(
+    successes_t: int, n_t: int, successes_c: int, n_c: int, alpha: float
+) -> tuple[float, float, float]:
+    """The odds ratio that goes with Fisher's test: (conditional MLE, exact interval at 1 - alpha).
+
+    The maximum-likelihood estimate of the odds ratio under the noncentral hypergeometric
+    distribution of the table given its margins (Cornfield, 1956), with the exact
+    interval that inverts the conditional test; scipy.stats.contingency.odds_ratio with
+    kind="conditional" computes both. NaN estimate when a margin is zero (no information).
+    """
+    from scipy.stats.contingency import odds_ratio  # heavy import, only on Fisher rows
+
+    table = [[successes_t, n_t - successes_t], [successes_c, n_c - successes_c]]
+    res = odds_ratio(table, kind="conditional")
+    ci = res.confidence_interval(confidence_level=1 - alpha)
+    return float(res.statistic), float(ci.low), float(ci.high)
+
+
 def sample_ratio_test(
     units: dict[str, int], weights: dict[str, float] | None, alpha: float
 ) -> SampleRatio | None:
@@ -437,7 +469,8 @@ def compare(metric: Metric, row: dict, alpha: float) -> TestResult:
     statistic = _f(row.get("statistic"))
     df = row.get("df")
     df = float(df) if _finite(df) else None
-    stat_name = "t" if test in T_TESTS else "z"
+    stat_name = "t" if test in T_TESTS else ("odds_ratio" if test == TEST_FISHER_EXACT else "z")
+    or_lo = or_hi = None
     segment = row.get("segment")
     base = dict(
         metric=metric.name, kind=metric.kind, arm=str(row["arm"]), role=metric.role, better=metric.better,
@@ -474,8 +507,12 @@ def compare(metric: Metric, row: dict, alpha: float) -> TestResult:
 
     if test == TEST_FISHER_EXACT:
         x_t, x_c = round(treatment.total), round(control.total)
-        statistic, p = fisher_exact(x_t, treatment.n, x_c, control.n)
+        _, p = fisher_exact(x_t, treatment.n, x_c, control.n)
+        statistic, or_lo, or_hi = conditional_odds_ratio(x_t, treatment.n, x_c, control.n, alpha)
         lo, hi = newcombe_interval(x_t, treatment.n, x_c, control.n, alpha)
+        notes.append(f"statistic: the odds ratio (conditional maximum-likelihood estimate) with its exact "
+                     f"{1 - alpha:.0%} interval [{statistic_text(or_lo)}, {statistic_text(or_hi)}]; the interval "
+                     f"column is for the difference of proportions")
         notes.append("interval: Newcombe's hybrid score interval (valid with few events)")
         if x_t + x_c == 0 or (x_t == treatment.n and x_c == control.n):
             every = "no unit" if x_t + x_c == 0 else "every unit"
@@ -559,7 +596,12 @@ def compare(metric: Metric, row: dict, alpha: float) -> TestResult:
         data_problem=problem, difference=_f(row.get("difference")), relative_lift=lift,
         lift_std_error=lift_se, lift_ci_low=lift_lo, lift_ci_high=lift_hi, p_value_adjusted=p,
         theta=theta, variance_reduction=reduction, guardrail=guardrail,
+        odds_ratio_ci_low=or_lo, odds_ratio_ci_high=or_hi,
     )
+
+
+def statistic_text(x: float) -> str:
+    return "inf" if x == math.inf else ("-" if not _finite(x) else f"{x:.4g}")
 
 
 # --------------------------------------------------------------------------- always-valid inference

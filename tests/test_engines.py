@@ -128,7 +128,10 @@ def check_against_references(engine, analysis, metric, values, *, sigma=None, al
             ref = sps.fisher_exact([[xt, arm.size - xt], [xc, control.size - xc]])  # reference: scipy
             lo, hi = confint_proportions_2indep(xt, arm.size, xc, control.size, method="newcomb", compare="diff",
                                                 alpha=alpha)  # reference: statsmodels
-            pairs = [("odds ratio", res.statistic, ref.statistic), ("p", res.p_value, ref.pvalue),
+            from scipy.stats.contingency import odds_ratio
+
+            cond = odds_ratio([[xt, arm.size - xt], [xc, control.size - xc]], kind="conditional")  # reference: scipy
+            pairs = [("odds ratio", res.statistic, cond.statistic), ("p", res.p_value, ref.pvalue),
                      ("ci_low", res.ci_low, lo), ("ci_high", res.ci_high, hi)]
         else:  # pragma: no cover - a new test kind needs a reference here
             raise AssertionError(f"no reference for test {res.test}")

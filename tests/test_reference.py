@@ -109,9 +109,46 @@ def test_fisher_exact_and_newcombe_interval_for_few_events(tmp_path, write_spec)
     lo, hi = confint_proportions_2indep(xt, nt, xc, nc, method="newcomb", compare="diff")  # reference: statsmodels
     assert res.test == "fisher_exact"
     assert res.p_value == approx(ref.pvalue)
-    assert res.statistic == approx(ref.statistic)
     assert res.ci_low == approx(lo) and res.ci_high == approx(hi)
     assert "10" in res.reason
+
+
+def test_fisher_row_statistic_is_the_conditional_odds_ratio_and_says_so(tmp_path, write_spec):
+    """The Fisher row's statistic is the conditional maximum-likelihood odds ratio with its
+    exact interval (reference: scipy.stats.contingency.odds_ratio(kind="conditional")), and
+    every output form says what it is."""
+    import json
+
+    from scipy.stats.contingency import odds_ratio
+
+    from sqlstat import report
+
+    syn = make_experiment(tmp_path, units={"control": 60, "treatment": 55},
+                          conversion={"control": 0.08, "treatment": 0.12}, events_per_unit=1.0, seed=7)
+    analysis = sqlstat.run(write_spec(spec_text(CONVERTED, SPEND, extra_experiment="alpha = 0.1")))
+    values = syn.unit_values(lambda r: float(r["converted"].any()))
+    xt, nt = int(values["treatment"].sum()), values["treatment"].size
+    xc, nc = int(values["control"].sum()), values["control"].size
+    ref = odds_ratio([[xt, nt - xt], [xc, nc - xc]], kind="conditional")  # reference: scipy
+    ci = ref.confidence_interval(confidence_level=0.9)
+    res = by_arm(analysis, "converted")["treatment"]
+    assert res.test == "fisher_exact" and res.statistic_name == "odds_ratio"
+    assert res.statistic == approx(ref.statistic)
+    assert (res.odds_ratio_ci_low, res.odds_ratio_ci_high) == (approx(ci.low), approx(ci.high))
+    assert xc > 0 and np.isfinite(ci.high)
+    rows = {r["metric"]: r for r in json.loads(report.to_json(analysis))["results"]}
+    assert "conditional maximum-likelihood" in rows["converted"]["statistic_label"]
+    assert rows["converted"]["odds_ratio"] == {"estimate": approx(ref.statistic), "method": "conditional_mle",
+                                               "ci_low": approx(ci.low),
+                                               "ci_high": approx(ci.high) if np.isfinite(ci.high) else None}
+    assert rows["spend"]["statistic_label"] == "t statistic" and rows["spend"]["odds_ratio"] is None
+    import csv
+    import io
+
+    csv_rows = {r["metric"]: r for r in csv.DictReader(io.StringIO(report.to_csv(analysis)))}
+    assert "conditional maximum-likelihood" in csv_rows["converted"]["statistic_label"]
+    text = report.to_text(analysis)
+    assert "OR=" in text and "odds ratio (conditional maximum-likelihood estimate" in text
 
 
 def test_sample_ratio_check_matches_scipy_chisquare(experiment, write_spec):
