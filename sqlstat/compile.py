@@ -30,7 +30,7 @@ RESULT_COLUMNS = (
     "control_total", "control_mean", "control_variance", "control_value", "control_value_std_error",
     "difference", "estimate", "std_error", "null_std_error", "statistic", "df", "theta",
     "variance_reduction", "relative_lift", "lift_std_error", "direction", "margin", "relative_margin",
-    "margin_statistic", "target", "target_statistic", "target_df",
+    "margin_statistic", "target", "target_statistic", "target_df", "theta_treatment", "theta_control",
 )
 
 

@@ -78,7 +78,10 @@ def result_dict(r: "TestResult") -> dict[str, Any]:
         "lift_ci_high": _num(r.lift_ci_high),
         "alternative": r.alternative,
         "significant": r.significant,
-        "cuped": None if r.theta is None else {"theta": _num(r.theta), "variance_reduction": _num(r.variance_reduction)},
+        "cuped": None if r.theta is None else {
+            "theta": _num(r.theta), "variance_reduction": _num(r.variance_reduction),
+            "theta_treatment": _num(r.theta_treatment), "theta_control": _num(r.theta_control),
+        },
         "guardrail": _guardrail_dict(r.guardrail),
         "always_valid": None if r.always_valid_p_value is None else {
             "p_value": _num(r.always_valid_p_value), "sequence_low": _num(r.sequence_low),

@@ -103,7 +103,9 @@ class TestResult:
     family: str = "secondary"  # multiplicity family this comparison belongs to
     correction: str = "none"  # "none", "holm" or "bh"
     p_value_adjusted: float = NAN
-    theta: float | None = None  # CUPED coefficient
+    theta: float | None = None  # CUPED: the within-arm slope pooled over both arms (diagnostic)
+    theta_treatment: float | None = None  # CUPED: each arm's own slope, used by the estimate (Lin, 2013)
+    theta_control: float | None = None
     variance_reduction: float | None = None  # CUPED: 1 - adjusted variance / raw variance
     guardrail: Guardrail | None = None
     always_valid_p_value: float | None = None  # mSPRT, valid at every look
@@ -409,8 +411,9 @@ def choose_test(metric: Metric, treatment: ArmSummary, control: ArmSummary) -> t
         )
     if metric.covariate is not None:
         return TEST_CUPED_WELCH_T, (
-            "pre-period covariate given: CUPED-adjusted difference (theta pooled over the two arms), "
-            "Welch's t on the adjusted variances; same expected difference, smaller standard error"
+            "pre-period covariate given: CUPED-adjusted difference (Lin's interacted regression: each arm's "
+            "own slope, means adjusted to the pooled covariate mean), standard error with the slopes estimated, "
+            "Welch df; same expected difference, smaller standard error"
         )
     if metric.kind == "proportion":
         counts = [
@@ -569,7 +572,8 @@ def compare(metric: Metric, row: dict, alpha: float) -> TestResult:
     theta = row.get("theta") if _finite(row.get("theta")) else None
     reduction = row.get("variance_reduction") if _finite(row.get("variance_reduction")) else None
     if test == TEST_CUPED_WELCH_T and reduction is not None:
-        reason += f"; theta = {theta:.4g}, variance reduced by {reduction:.1%}"
+        reason += (f"; slopes {_f(row.get('theta_treatment')):.4g} (treatment) and "
+                   f"{_f(row.get('theta_control')):.4g} (control), variance reduced by {reduction:.1%}")
         if reduction < 0.01:
             notes.append("the pre-period covariate barely predicts the metric: CUPED gained little")
 
@@ -596,6 +600,8 @@ def compare(metric: Metric, row: dict, alpha: float) -> TestResult:
         data_problem=problem, difference=_f(row.get("difference")), relative_lift=lift,
         lift_std_error=lift_se, lift_ci_low=lift_lo, lift_ci_high=lift_hi, p_value_adjusted=p,
         theta=theta, variance_reduction=reduction, guardrail=guardrail,
+        theta_treatment=_f(row["theta_treatment"]) if theta is not None and _finite(row.get("theta_treatment")) else None,
+        theta_control=_f(row["theta_control"]) if theta is not None and _finite(row.get("theta_control")) else None,
         odds_ratio_ci_low=or_lo, odds_ratio_ci_high=or_hi,
     )
 

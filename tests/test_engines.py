@@ -362,9 +362,10 @@ def cuped_tables(engine_db):
 
 def test_cuped_equals_the_covariate_adjusted_regression(engine_db, cuped_tables):
     """CUPED (Deng, Xu, Kohavi and Walker, 2013) on every engine, pre-period window read
-    from a DATE column. Reference: statsmodels OLS y ~ treatment + centred covariate on the
-    two arms compared (estimate and theta), and numpy variances of y - theta x (the
-    standard error)."""
+    from a DATE column, estimated as Lin's (2013) interacted regression. Reference:
+    statsmodels OLS y ~ treatment + centred covariate + their product on the two arms
+    compared (the estimate), and each arm's own OLS of y on the covariate centred at the
+    pooled mean (the slopes and the classical variances that make the standard error)."""
     import statsmodels.api as sm
 
     data, spec = cuped_tables
@@ -375,16 +376,15 @@ def test_cuped_equals_the_covariate_adjusted_regression(engine_db, cuped_tables)
         keep = (arm == treated) | (arm == "control")
         t = (arm[keep] == treated).astype(float)
         xc = x[keep] - x[keep].mean()
-        fit = sm.OLS(y[keep], sm.add_constant(np.column_stack([t, xc]))).fit()
+        fit = sm.OLS(y[keep], sm.add_constant(np.column_stack([t, xc, t * xc]))).fit()
+        per_arm = [sm.OLS(y[keep][t == f], sm.add_constant(xc[t == f])).fit() for f in (1.0, 0.0)]
         res = results[treated]
         assert res.test == "cuped_welch_t"
         close(engine_db.name, res.estimate, fit.params[1], f"CUPED {treated} estimate")
-        close(engine_db.name, res.theta, fit.params[2], f"CUPED {treated} theta")
-        th = fit.params[2]
-        yt, xt = y[arm == treated], x[arm == treated]
-        yc, xc0 = y[arm == "control"], x[arm == "control"]
-        adjusted = np.var(yt - th * xt, ddof=1) / yt.size + np.var(yc - th * xc0, ddof=1) / yc.size
-        close(engine_db.name, res.std_error, math.sqrt(adjusted), f"CUPED {treated} std_error")
+        close(engine_db.name, res.theta_treatment, per_arm[0].params[1], f"CUPED {treated} slope")
+        close(engine_db.name, res.theta_control, per_arm[1].params[1], f"CUPED {treated} control slope")
+        se = math.sqrt(per_arm[0].bse[0] ** 2 + per_arm[1].bse[0] ** 2)
+        close(engine_db.name, res.std_error, se, f"CUPED {treated} std_error")
         assert res.variance_reduction > 0.2  # the covariate is informative in this data
 
 

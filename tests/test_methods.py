@@ -94,25 +94,48 @@ end = 2026-08-01
 """
 
 
-def test_cuped_difference_equals_regression_coefficient(cuped, write_spec):
+def _lin_reference(sub: pd.DataFrame, arm: str):
+    """Lin's (2013) interacted regression y ~ T + (x - mean x) + T (x - mean x) on the two arms
+    (statsmodels OLS: coefficient and HC2 standard error), and the same estimator's variance
+    from each arm's own regression of y on (x - pooled mean x) with its classical intercept
+    variance (statsmodels OLS, nonrobust), which is what sqlstat computes."""
+    treat = (sub["arm"] == arm).astype(float).to_numpy()
+    xc = (sub["x"] - sub["x"].mean()).to_numpy()
+    y = sub["y"].to_numpy()
+    inter = sm.OLS(y, sm.add_constant(np.column_stack([treat, xc, treat * xc]))).fit(cov_type="HC2")
+    per_arm = []
+    for flag in (1.0, 0.0):
+        keep = treat == flag
+        per_arm.append(sm.OLS(y[keep], sm.add_constant(xc[keep])).fit())
+    variance = per_arm[0].bse[0] ** 2 + per_arm[1].bse[0] ** 2
+    return inter, per_arm, variance
+
+
+def test_cuped_is_lins_interacted_regression_with_slopes_estimated(cuped, write_spec):
     metric = 'name = "spend"\nkind = "mean"\nvalue = "sum(amount)"\ncovariate = "sum(amount)"'
     analysis = sqlstat.run(write_spec(spec_text(metric) + PRE))
     for arm, res in overall(analysis, "spend").items():
         sub = cuped[cuped["arm"].isin([arm, "control"])]
-        treat = (sub["arm"] == arm).astype(float)
-        xc = sub["x"] - sub["x"].mean()
-        # reference: statsmodels OLS y ~ treatment + centred covariate
-        fit = sm.OLS(sub["y"].to_numpy(), sm.add_constant(np.column_stack([treat, xc]))).fit()
+        inter, per_arm, variance = _lin_reference(sub, arm)
         assert res.test == "cuped_welch_t"
-        assert res.estimate == approx(fit.params[1])
+        # reference: statsmodels OLS, interacted regression (Lin 2013)
+        assert res.estimate == approx(inter.params[1])
+        assert res.theta_treatment == approx(per_arm[0].params[1]) and res.theta_control == approx(per_arm[1].params[1])
+        # reference: statsmodels OLS per arm, classical variance of each adjusted mean
+        assert res.std_error == approx(np.sqrt(variance))
+        vt, vc = per_arm[0].bse[0] ** 2, per_arm[1].bse[0] ** 2
+        nt, nc = per_arm[0].nobs, per_arm[1].nobs
+        assert res.df == approx((vt + vc) ** 2 / (vt**2 / (nt - 2) + vc**2 / (nc - 2)))
+        # the named variant against HC2 on the interacted regression: close, not equal
+        assert abs(res.std_error / inter.bse[1] - 1) < 0.02
+        # the pooled slope stays as a diagnostic: the coefficient of y ~ T + x
+        fit = sm.OLS(sub["y"].to_numpy(), sm.add_constant(np.column_stack([
+            (sub["arm"] == arm).astype(float), sub["x"] - sub["x"].mean()]))).fit()
         assert res.theta == approx(fit.params[2])
-        # variance reduction, recomputed with numpy from the raw values
+        # variance reduction, recomputed from the raw values
         t, c = sub[sub["arm"] == arm], sub[sub["arm"] == "control"]
-        th = fit.params[2]
-        adj = np.var(t["y"] - th * t["x"], ddof=1) / len(t) + np.var(c["y"] - th * c["x"], ddof=1) / len(c)
         raw = np.var(t["y"], ddof=1) / len(t) + np.var(c["y"], ddof=1) / len(c)
-        assert res.variance_reduction == approx(1 - adj / raw)
-        assert res.std_error == approx(np.sqrt(adj))
+        assert res.variance_reduction == approx(1 - variance / raw)
         assert res.variance_reduction > 0.2  # the covariate is informative in this data
     # cuped = true uses the metric's own value in the pre-period window: same numbers here
     metric_own = 'name = "spend"\nkind = "mean"\nvalue = "sum(amount)"\ncuped = true'
@@ -388,16 +411,26 @@ def test_cuped_lift_uses_the_covariance_of_the_adjusted_difference_with_control(
     analysis = sqlstat.run(write_spec(spec_text(metric) + PRE))
     for arm, res in overall(analysis, "spend").items():
         t, c = cuped[cuped["arm"] == arm], cuped[cuped["arm"] == "control"]
-        th = res.theta
-        # L = D / C with D = (yt - th xt) - (yc - th xc), C = yc; variables (yt, xt, yc, xc)
-        D = (t["y"].mean() - th * t["x"].mean()) - (c["y"].mean() - th * c["x"].mean())
+        # slopes per arm (numpy), held fixed in the delta method; xbar = pooled covariate mean
+        bt = np.cov(t["y"], t["x"], ddof=1)[0, 1] / np.var(t["x"], ddof=1)
+        bc = np.cov(c["y"], c["x"], ddof=1)[0, 1] / np.var(c["x"], ddof=1)
+        nt, nc = len(t), len(c)
+        xbar = (t["x"].sum() + c["x"].sum()) / (nt + nc)
+        # L = D / C, D = (yt - bt (xt - xbar)) - (yc - bc (xc - xbar)), C = yc; variables (yt, xt, yc, xc)
+        D = (t["y"].mean() - bt * (t["x"].mean() - xbar)) - (c["y"].mean() - bc * (c["x"].mean() - xbar))
         C = c["y"].mean()
-        grad = np.array([1 / C, -th / C, -(C + D) / C**2, th / C])
+        dxt = -bt + (bt - bc) * nt / (nt + nc)  # dD/dxt through xbar
+        dxc = bc + (bt - bc) * nc / (nt + nc)
+        g_d = np.array([1.0, dxt, -1.0, dxc])  # gradient of D
+        grad = g_d / C + np.array([0.0, 0.0, -D / C**2, 0.0])
         cov = np.zeros((4, 4))
         cov[:2, :2] = np.cov(t["y"], t["x"], ddof=1) / len(t)
         cov[2:, 2:] = np.cov(c["y"], c["x"], ddof=1) / len(c)
         assert res.relative_lift == approx(D / C)
-        assert res.lift_std_error == approx(_delta_lift_se(grad, cov))
+        # v_D is the estimate's own variance (slopes estimated); v_C and cov(D, C) hold the slopes fixed
+        v_d_fixed = float(g_d @ cov @ g_d)
+        expected = grad @ cov @ grad - v_d_fixed / C**2 + res.std_error**2 / C**2
+        assert res.lift_std_error == approx(np.sqrt(expected))
 
 
 # ------------------------------------------------------------------ relative-lift coverage with few events
@@ -425,3 +458,24 @@ def test_relative_lift_interval_holds_its_level_on_fisher_rows(tmp_path):
         print(f"n={n} rate={rate} ratio={ratio}: coverage {cell.coverage:.3f} [{cell.ci_low:.3f}, {cell.ci_high:.3f}]")
         assert cell.fisher_rows >= 0.95 * cell.reps  # the cell really is in Fisher's region
         assert cell.ci_high >= 0.95, (n, rate, ratio, cell)
+
+
+def test_cuped_interval_coverage_at_small_and_large_sizes(tmp_path):
+    """Seeded simulation, end to end through sqlstat (benchmarks/cuped_coverage.py has the
+    full run; figures in docs/methods.md): at 200 and 20,000 units per arm, with a slope that
+    differs between arms, the Clopper-Pearson interval (scipy.stats.binomtest) of the share
+    of 95% CUPED intervals covering the true effect contains 0.95."""
+    import importlib.util
+    import sys
+
+    from .conftest import PROJECT
+
+    spec = importlib.util.spec_from_file_location("cuped_coverage", PROJECT / "benchmarks" / "cuped_coverage.py")
+    cc = importlib.util.module_from_spec(spec)
+    sys.modules["cuped_coverage"] = cc  # its dataclass looks itself up there
+    spec.loader.exec_module(cc)
+    for n, reps, seed in [(200, 400, 7), (20_000, 50, 8)]:
+        cell = cc.simulate(n, reps, seed, tmp_path)
+        print(f"n={n}: coverage {cell.coverage:.3f} [{cell.ci_low:.3f}, {cell.ci_high:.3f}]")
+        assert cell.ci_low <= 0.95 <= cell.ci_high, cell
+        assert cell.mean_reduction > 0.3  # the covariate is informative: CUPED is doing work

@@ -376,7 +376,21 @@ WITH "ASSIGNED_UNITS" AS (
       ) * "X_VARIANCE" + (
         "CONTROL_N" - 1
       ) * "CONTROL_X_VARIANCE", 0)
-    END AS "THETA"
+    END AS "THETA",
+    CASE
+      WHEN "METHOD" = 'cuped_welch_t'
+      THEN COALESCE("XY_COVARIANCE" / NULLIF("X_VARIANCE", 0), 0)
+    END AS "ARM_THETA",
+    CASE
+      WHEN "METHOD" = 'cuped_welch_t'
+      THEN COALESCE("CONTROL_XY_COVARIANCE" / NULLIF("CONTROL_X_VARIANCE", 0), 0)
+    END AS "CONTROL_ARM_THETA",
+    CASE
+      WHEN "METHOD" = 'cuped_welch_t'
+      THEN (
+        "N" * "X_MEAN" + "CONTROL_N" * "CONTROL_X_MEAN"
+      ) / NULLIF("N" + "CONTROL_N", 0)
+    END AS "POOLED_X_MEAN"
   FROM "WITH_CONTROL"
   WHERE
     NOT "ARM" IS NULL
@@ -386,14 +400,46 @@ WITH "ASSIGNED_UNITS" AS (
     CASE
       WHEN "METHOD" = 'cuped_welch_t'
       THEN (
-        "VARIANCE" - 2 * "THETA" * "XY_COVARIANCE" + "THETA" * "THETA" * "X_VARIANCE"
-      ) / NULLIF("N", 0)
+        "N" - 1
+      ) * (
+        "VARIANCE" - "ARM_THETA" * "XY_COVARIANCE"
+      ) / NULLIF("N" - 2, 0) * (
+        "INV_N" + CASE
+          WHEN "X_VARIANCE" > 0
+          THEN (
+            "X_MEAN" - "POOLED_X_MEAN"
+          ) * (
+            "X_MEAN" - "POOLED_X_MEAN"
+          ) / (
+            (
+              "N" - 1
+            ) * "X_VARIANCE"
+          )
+          ELSE 0
+        END
+      )
     END AS "ADJUSTED_VARIANCE_OF_MEAN",
     CASE
       WHEN "METHOD" = 'cuped_welch_t'
       THEN (
-        "CONTROL_VARIANCE" - 2 * "THETA" * "CONTROL_XY_COVARIANCE" + "THETA" * "THETA" * "CONTROL_X_VARIANCE"
-      ) / NULLIF("CONTROL_N", 0)
+        "CONTROL_N" - 1
+      ) * (
+        "CONTROL_VARIANCE" - "CONTROL_ARM_THETA" * "CONTROL_XY_COVARIANCE"
+      ) / NULLIF("CONTROL_N" - 2, 0) * (
+        "INV_CONTROL_N" + CASE
+          WHEN "CONTROL_X_VARIANCE" > 0
+          THEN (
+            "CONTROL_X_MEAN" - "POOLED_X_MEAN"
+          ) * (
+            "CONTROL_X_MEAN" - "POOLED_X_MEAN"
+          ) / (
+            (
+              "CONTROL_N" - 1
+            ) * "CONTROL_X_VARIANCE"
+          )
+          ELSE 0
+        END
+      )
     END AS "CONTROL_ADJUSTED_VARIANCE_OF_MEAN"
   FROM "ARM_VALUES"
 ), "COMPARED" AS (
@@ -405,9 +451,13 @@ WITH "ASSIGNED_UNITS" AS (
       THEN NULL
       WHEN "METHOD" = 'cuped_welch_t'
       THEN (
-        "MEAN" - "CONTROL_MEAN"
-      ) - "THETA" * (
-        "X_MEAN" - "CONTROL_X_MEAN"
+        "MEAN" - "ARM_THETA" * (
+          "X_MEAN" - "POOLED_X_MEAN"
+        )
+      ) - (
+        "CONTROL_MEAN" - "CONTROL_ARM_THETA" * (
+          "CONTROL_X_MEAN" - "POOLED_X_MEAN"
+        )
       )
       ELSE "VALUE" - "CONTROL_VALUE"
     END AS "ESTIMATE",
@@ -527,7 +577,7 @@ WITH "ASSIGNED_UNITS" AS (
       ) * (
         "ADJUSTED_VARIANCE_OF_MEAN" + "CONTROL_ADJUSTED_VARIANCE_OF_MEAN"
       ) / NULLIF(
-        "ADJUSTED_VARIANCE_OF_MEAN" * "ADJUSTED_VARIANCE_OF_MEAN" / NULLIF("N" - 1, 0) + "CONTROL_ADJUSTED_VARIANCE_OF_MEAN" * "CONTROL_ADJUSTED_VARIANCE_OF_MEAN" / NULLIF("CONTROL_N" - 1, 0),
+        "ADJUSTED_VARIANCE_OF_MEAN" * "ADJUSTED_VARIANCE_OF_MEAN" / NULLIF("N" - 2, 0) + "CONTROL_ADJUSTED_VARIANCE_OF_MEAN" * "CONTROL_ADJUSTED_VARIANCE_OF_MEAN" / NULLIF("CONTROL_N" - 2, 0),
         0
       )
       WHEN "METHOD" = 'student_t'
@@ -579,7 +629,11 @@ WITH "ASSIGNED_UNITS" AS (
       THEN "POOLED_VARIANCE" * "INV_CONTROL_N"
       WHEN "METHOD" = 'cuped_welch_t'
       THEN (
-        "CONTROL_VARIANCE" - "THETA" * "CONTROL_XY_COVARIANCE"
+        "CONTROL_VARIANCE" - (
+          "CONTROL_ARM_THETA" + (
+            "ARM_THETA" - "CONTROL_ARM_THETA"
+          ) * "CONTROL_N" / NULLIF("N" + "CONTROL_N", 0)
+        ) * "CONTROL_XY_COVARIANCE"
       ) * "INV_CONTROL_N"
       ELSE "CONTROL_VALUE_VARIANCE"
     END AS "LIFT_CONTROL_COVARIANCE"
@@ -708,7 +762,9 @@ WITH "ASSIGNED_UNITS" AS (
     END AS "MARGIN_STATISTIC",
     "TARGET",
     "TARGET_STATISTIC",
-    "TARGET_DF"
+    "TARGET_DF",
+    "ARM_THETA" AS "THETA_TREATMENT",
+    "CONTROL_ARM_THETA" AS "THETA_CONTROL"
   FROM "MONITORED_P"
 )
 SELECT
@@ -758,7 +814,9 @@ SELECT
   "MARGIN_STATISTIC",
   "TARGET",
   "TARGET_STATISTIC",
-  "TARGET_DF"
+  "TARGET_DF",
+  "THETA_TREATMENT",
+  "THETA_CONTROL"
 FROM "RESULT"
 ORDER BY
   "METRIC_INDEX",

@@ -378,7 +378,21 @@ WITH `assigned_units` AS (
       ) * `x_variance` + (
         `control_n` - 1
       ) * `control_x_variance`, 0)
-    END AS `theta`
+    END AS `theta`,
+    CASE
+      WHEN `method` = 'cuped_welch_t'
+      THEN COALESCE(CAST(`xy_covariance` AS REAL) / NULLIF(`x_variance`, 0), 0)
+    END AS `arm_theta`,
+    CASE
+      WHEN `method` = 'cuped_welch_t'
+      THEN COALESCE(CAST(`control_xy_covariance` AS REAL) / NULLIF(`control_x_variance`, 0), 0)
+    END AS `control_arm_theta`,
+    CASE
+      WHEN `method` = 'cuped_welch_t'
+      THEN CAST((
+        `n` * `x_mean` + `control_n` * `control_x_mean`
+      ) AS REAL) / NULLIF(`n` + `control_n`, 0)
+    END AS `pooled_x_mean`
   FROM `with_control`
   WHERE
     NOT `arm` IS NULL
@@ -388,14 +402,46 @@ WITH `assigned_units` AS (
     CASE
       WHEN `method` = 'cuped_welch_t'
       THEN CAST((
-        `variance` - 2 * `theta` * `xy_covariance` + `theta` * `theta` * `x_variance`
-      ) AS REAL) / NULLIF(`n`, 0)
+        `n` - 1
+      ) * (
+        `variance` - `arm_theta` * `xy_covariance`
+      ) AS REAL) / NULLIF(`n` - 2, 0) * (
+        `inv_n` + CASE
+          WHEN `x_variance` > 0
+          THEN CAST((
+            `x_mean` - `pooled_x_mean`
+          ) * (
+            `x_mean` - `pooled_x_mean`
+          ) AS REAL) / (
+            (
+              `n` - 1
+            ) * `x_variance`
+          )
+          ELSE 0
+        END
+      )
     END AS `adjusted_variance_of_mean`,
     CASE
       WHEN `method` = 'cuped_welch_t'
       THEN CAST((
-        `control_variance` - 2 * `theta` * `control_xy_covariance` + `theta` * `theta` * `control_x_variance`
-      ) AS REAL) / NULLIF(`control_n`, 0)
+        `control_n` - 1
+      ) * (
+        `control_variance` - `control_arm_theta` * `control_xy_covariance`
+      ) AS REAL) / NULLIF(`control_n` - 2, 0) * (
+        `inv_control_n` + CASE
+          WHEN `control_x_variance` > 0
+          THEN CAST((
+            `control_x_mean` - `pooled_x_mean`
+          ) * (
+            `control_x_mean` - `pooled_x_mean`
+          ) AS REAL) / (
+            (
+              `control_n` - 1
+            ) * `control_x_variance`
+          )
+          ELSE 0
+        END
+      )
     END AS `control_adjusted_variance_of_mean`
   FROM `arm_values`
 ), `compared` AS (
@@ -407,9 +453,13 @@ WITH `assigned_units` AS (
       THEN NULL
       WHEN `method` = 'cuped_welch_t'
       THEN (
-        `mean` - `control_mean`
-      ) - `theta` * (
-        `x_mean` - `control_x_mean`
+        `mean` - `arm_theta` * (
+          `x_mean` - `pooled_x_mean`
+        )
+      ) - (
+        `control_mean` - `control_arm_theta` * (
+          `control_x_mean` - `pooled_x_mean`
+        )
       )
       ELSE `value` - `control_value`
     END AS `estimate`,
@@ -529,7 +579,7 @@ WITH `assigned_units` AS (
       ) * (
         `adjusted_variance_of_mean` + `control_adjusted_variance_of_mean`
       ) AS REAL) / NULLIF(
-        CAST(`adjusted_variance_of_mean` * `adjusted_variance_of_mean` AS REAL) / NULLIF(`n` - 1, 0) + CAST(`control_adjusted_variance_of_mean` * `control_adjusted_variance_of_mean` AS REAL) / NULLIF(`control_n` - 1, 0),
+        CAST(`adjusted_variance_of_mean` * `adjusted_variance_of_mean` AS REAL) / NULLIF(`n` - 2, 0) + CAST(`control_adjusted_variance_of_mean` * `control_adjusted_variance_of_mean` AS REAL) / NULLIF(`control_n` - 2, 0),
         0
       )
       WHEN `method` = 'student_t'
@@ -584,7 +634,11 @@ WITH `assigned_units` AS (
       THEN `pooled_variance` * `inv_control_n`
       WHEN `method` = 'cuped_welch_t'
       THEN (
-        `control_variance` - `theta` * `control_xy_covariance`
+        `control_variance` - (
+          `control_arm_theta` + CAST((
+            `arm_theta` - `control_arm_theta`
+          ) * `control_n` AS REAL) / NULLIF(`n` + `control_n`, 0)
+        ) * `control_xy_covariance`
       ) * `inv_control_n`
       ELSE `control_value_variance`
     END AS `lift_control_covariance`
@@ -718,6 +772,8 @@ WITH `assigned_units` AS (
     `target`,
     `target_statistic`,
     `target_df`,
+    `arm_theta` AS `theta_treatment`,
+    `control_arm_theta` AS `theta_control`,
     `sequential_p_value` AS `always_valid_p_value`,
     `estimate` - `sequence_half_width` AS `sequence_low`,
     `estimate` + `sequence_half_width` AS `sequence_high`
@@ -771,6 +827,8 @@ SELECT
   `target`,
   `target_statistic`,
   `target_df`,
+  `theta_treatment`,
+  `theta_control`,
   `always_valid_p_value`,
   `sequence_low`,
   `sequence_high`

@@ -189,7 +189,21 @@ WITH `assigned_units` AS (
       ) * `x_variance` + (
         `control_n` - 1
       ) * `control_x_variance`, 0)
-    END AS `theta`
+    END AS `theta`,
+    CASE
+      WHEN `method` = 'cuped_welch_t'
+      THEN COALESCE(`xy_covariance` / NULLIF(`x_variance`, 0), 0)
+    END AS `arm_theta`,
+    CASE
+      WHEN `method` = 'cuped_welch_t'
+      THEN COALESCE(`control_xy_covariance` / NULLIF(`control_x_variance`, 0), 0)
+    END AS `control_arm_theta`,
+    CASE
+      WHEN `method` = 'cuped_welch_t'
+      THEN (
+        `n` * `x_mean` + `control_n` * `control_x_mean`
+      ) / NULLIF(`n` + `control_n`, 0)
+    END AS `pooled_x_mean`
   FROM `with_control`
   WHERE
     NOT `arm` IS NULL
@@ -199,14 +213,46 @@ WITH `assigned_units` AS (
     CASE
       WHEN `method` = 'cuped_welch_t'
       THEN (
-        `variance` - 2 * `theta` * `xy_covariance` + `theta` * `theta` * `x_variance`
-      ) / NULLIF(`n`, 0)
+        `n` - 1
+      ) * (
+        `variance` - `arm_theta` * `xy_covariance`
+      ) / NULLIF(`n` - 2, 0) * (
+        `inv_n` + CASE
+          WHEN `x_variance` > 0
+          THEN (
+            `x_mean` - `pooled_x_mean`
+          ) * (
+            `x_mean` - `pooled_x_mean`
+          ) / (
+            (
+              `n` - 1
+            ) * `x_variance`
+          )
+          ELSE 0
+        END
+      )
     END AS `adjusted_variance_of_mean`,
     CASE
       WHEN `method` = 'cuped_welch_t'
       THEN (
-        `control_variance` - 2 * `theta` * `control_xy_covariance` + `theta` * `theta` * `control_x_variance`
-      ) / NULLIF(`control_n`, 0)
+        `control_n` - 1
+      ) * (
+        `control_variance` - `control_arm_theta` * `control_xy_covariance`
+      ) / NULLIF(`control_n` - 2, 0) * (
+        `inv_control_n` + CASE
+          WHEN `control_x_variance` > 0
+          THEN (
+            `control_x_mean` - `pooled_x_mean`
+          ) * (
+            `control_x_mean` - `pooled_x_mean`
+          ) / (
+            (
+              `control_n` - 1
+            ) * `control_x_variance`
+          )
+          ELSE 0
+        END
+      )
     END AS `control_adjusted_variance_of_mean`
   FROM `arm_values`
 ), `compared` AS (
@@ -218,9 +264,13 @@ WITH `assigned_units` AS (
       THEN NULL
       WHEN `method` = 'cuped_welch_t'
       THEN (
-        `mean` - `control_mean`
-      ) - `theta` * (
-        `x_mean` - `control_x_mean`
+        `mean` - `arm_theta` * (
+          `x_mean` - `pooled_x_mean`
+        )
+      ) - (
+        `control_mean` - `control_arm_theta` * (
+          `control_x_mean` - `pooled_x_mean`
+        )
       )
       ELSE `value` - `control_value`
     END AS `estimate`,
@@ -340,7 +390,7 @@ WITH `assigned_units` AS (
       ) * (
         `adjusted_variance_of_mean` + `control_adjusted_variance_of_mean`
       ) / NULLIF(
-        `adjusted_variance_of_mean` * `adjusted_variance_of_mean` / NULLIF(`n` - 1, 0) + `control_adjusted_variance_of_mean` * `control_adjusted_variance_of_mean` / NULLIF(`control_n` - 1, 0),
+        `adjusted_variance_of_mean` * `adjusted_variance_of_mean` / NULLIF(`n` - 2, 0) + `control_adjusted_variance_of_mean` * `control_adjusted_variance_of_mean` / NULLIF(`control_n` - 2, 0),
         0
       )
       WHEN `method` = 'student_t'
@@ -392,7 +442,11 @@ WITH `assigned_units` AS (
       THEN `pooled_variance` * `inv_control_n`
       WHEN `method` = 'cuped_welch_t'
       THEN (
-        `control_variance` - `theta` * `control_xy_covariance`
+        `control_variance` - (
+          `control_arm_theta` + (
+            `arm_theta` - `control_arm_theta`
+          ) * `control_n` / NULLIF(`n` + `control_n`, 0)
+        ) * `control_xy_covariance`
       ) * `inv_control_n`
       ELSE `control_value_variance`
     END AS `lift_control_covariance`
@@ -521,7 +575,9 @@ WITH `assigned_units` AS (
     END AS `margin_statistic`,
     `target`,
     `target_statistic`,
-    `target_df`
+    `target_df`,
+    `arm_theta` AS `theta_treatment`,
+    `control_arm_theta` AS `theta_control`
   FROM `monitored_p`
 )
 SELECT
@@ -571,7 +627,9 @@ SELECT
   `margin_statistic`,
   `target`,
   `target_statistic`,
-  `target_df`
+  `target_df`,
+  `theta_treatment`,
+  `theta_control`
 FROM `result`
 ORDER BY
   `metric_index` NULLS LAST,
