@@ -286,14 +286,15 @@ def render_baseline(experiment: Experiment, dialect: str | Dialect = "duckdb") -
     measures, pairs, metrics = [], [], []
     for m in experiment.metrics:
         y = str(len(measures))
-        measures.append({"key": y, "sql": _value_sql(m.value, d)})
+        measures.append({"key": y, "sql": _value_sql(m.value, d), "missing": m.missing})
         x = None
         if m.denominator is not None:
             x = str(len(measures))
-            measures.append({"key": x, "sql": _value_sql(m.denominator, d)})
+            measures.append({"key": x, "sql": _value_sql(m.denominator, d), "missing": m.missing})
             pairs.append({"a": y, "b": x})
         metrics.append({"index": m.index, "name": _literal(m.name), "kind_literal": _literal(m.kind), "y": y, "x": x})
     context = {
+        "assignment": _relation(experiment.assignment, d),
         "pre_period": _pre_period(experiment, d),
         "measures": measures,
         "pairs": pairs,

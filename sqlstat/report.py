@@ -361,6 +361,10 @@ def plan_text(experiment: Any) -> str:
     return "\n".join(out) + "\n"
 
 
+def _pct_plain(x: Any) -> str:
+    return "-" if not isinstance(x, float) or not math.isfinite(x) else f"{x:.1%}"
+
+
 def plan_dict(p: Any) -> dict[str, Any]:
     return {
         "experiment": p.experiment,
@@ -369,9 +373,14 @@ def plan_dict(p: Any) -> dict[str, Any]:
         "arms": p.arms,
         "window_days": p.window_days,
         "daily_units": _num(p.daily_units),
+        "population": p.population,
+        "weights": {a: w for a, w in p.weights},
         "metrics": [
             {"metric": r.metric, "kind": r.kind, "baseline": _num(r.baseline), "sd": _num(r.sd),
-             "units_seen": r.units_seen, "mde": _num(r.mde), "mde_relative": _num(r.mde_relative),
+             "units_seen": r.units_seen, "population": r.population,
+             "share_without_rows": _num(r.share_without_rows),
+             "units_by_arm": {a: None if not math.isfinite(n) else math.ceil(n) for a, n in r.units_by_arm},
+             "mde": _num(r.mde), "mde_relative": _num(r.mde_relative),
              "units_per_arm": None if not math.isfinite(r.units_per_arm) else math.ceil(r.units_per_arm),
              "total_units": None if not math.isfinite(r.total_units) else math.ceil(r.total_units),
              "days": None if not math.isfinite(r.days) else math.ceil(r.days), "method": r.method,
@@ -385,8 +394,14 @@ def plan_report(p: Any, fmt: str = "table") -> str:
     """What ``sqlstat plan`` prints."""
     if fmt == "json":
         return json.dumps(plan_dict(p), indent=2, allow_nan=False) + "\n"
+    shares = [w for _, w in p.weights]
+    split = "equal split" if len(set(round(w, 12) for w in shares)) <= 1 else "split " + ":".join(
+        f"{w / min(shares):g}" for w in shares) + " (" + ", ".join(a for a, _ in p.weights) + ")"
+    without = p.rows[0].share_without_rows if p.rows else float("nan")
     out = [
-        f"Plan for {p.experiment}: two-sided alpha = {p.alpha:g}, power = {p.power:g}, {p.arms} arms, equal split",
+        f"Plan for {p.experiment}: two-sided alpha = {p.alpha:g}, power = {p.power:g}, {p.arms} arms, {split}",
+        f"Population: {p.population:,} units (the [assignment] source), {_pct_plain(without)} of them without "
+        f"pre-period rows (counted under each metric's missing rule)",
         f"Baseline from the pre-period ({p.window_days} days): {_fmt(p.daily_units)} units seen per day",
         "",
     ]
@@ -398,7 +413,13 @@ def plan_report(p: Any, fmt: str = "table") -> str:
         rows.append([r.metric, r.kind, _fmt(r.baseline), _fmt(r.sd), _fmt(r.mde), _pct(r.mde_relative), units,
                      total, days, r.method])
     out.append(_table(["metric", "kind", "baseline", "sd per unit", "effect (abs)", "effect (rel)",
-                       "units per arm", "total units", "days", "method"], rows))
+                       "units (smallest arm)", "total units", "days", "method"], rows))
+    if any(len({round(n, 6) for _, n in r.units_by_arm}) > 1 for r in p.rows):
+        out.append("")
+        out.append("Units per arm, following the weights (the smallest comparison arm sets the size):")
+        for r in p.rows:
+            arms = ", ".join(f"{a} {'-' if not math.isfinite(n) else f'{math.ceil(n):,}'}" for a, n in r.units_by_arm)
+            out.append(f"  {r.metric}: {arms}")
     for r in p.rows:
         for n in r.notes:
             out.append(f"Note: {r.metric}: {n}")
