@@ -45,6 +45,18 @@ class Synthetic:
         return {a: np.array(v) for a, v in out.items()}
 
 
+def load_benchmark(name: str):
+    """Import a simulation script from benchmarks/ (not a package) so a test can run it lighter."""
+    import importlib.util
+    import sys
+
+    spec = importlib.util.spec_from_file_location(name, PROJECT / "benchmarks" / f"{name}.py")
+    module = importlib.util.module_from_spec(spec)
+    sys.modules[name] = module  # its dataclasses look themselves up there
+    spec.loader.exec_module(module)
+    return module
+
+
 def write_parquet(path: Path, columns: dict) -> None:
     pq.write_table(pa.table(columns), path)
 

@@ -443,15 +443,9 @@ def test_relative_lift_interval_holds_its_level_on_fisher_rows(tmp_path):
     true lift at least 95% of the time: the Clopper-Pearson interval of the simulated
     coverage (scipy.stats.binomtest) must reach 0.95. The delta-method interval these rows
     carried before (none at all when control had no events) fails this check."""
-    import importlib.util
-    import sys
+    from .conftest import load_benchmark
 
-    from .conftest import PROJECT
-
-    spec = importlib.util.spec_from_file_location("lift_coverage", PROJECT / "benchmarks" / "lift_coverage.py")
-    lc = importlib.util.module_from_spec(spec)
-    sys.modules["lift_coverage"] = lc  # its dataclass looks itself up there
-    spec.loader.exec_module(lc)
+    lc = load_benchmark("lift_coverage")
     cells = [(30, 0.02, 1.0), (50, 0.05, 1.0), (50, 0.05, 2.0), (100, 0.02, 2.0), (200, 0.02, 1.0), (500, 0.005, 2.0)]
     for i, (n, rate, ratio) in enumerate(cells):
         cell = lc.simulate(n, rate, ratio, reps=300, seed=100 + i, folder=tmp_path)
@@ -465,15 +459,9 @@ def test_cuped_interval_coverage_at_small_and_large_sizes(tmp_path):
     full run; figures in docs/methods.md): at 200 and 20,000 units per arm, with a slope that
     differs between arms, the Clopper-Pearson interval (scipy.stats.binomtest) of the share
     of 95% CUPED intervals covering the true effect contains 0.95."""
-    import importlib.util
-    import sys
+    from .conftest import load_benchmark
 
-    from .conftest import PROJECT
-
-    spec = importlib.util.spec_from_file_location("cuped_coverage", PROJECT / "benchmarks" / "cuped_coverage.py")
-    cc = importlib.util.module_from_spec(spec)
-    sys.modules["cuped_coverage"] = cc  # its dataclass looks itself up there
-    spec.loader.exec_module(cc)
+    cc = load_benchmark("cuped_coverage")
     for n, reps, seed in [(200, 400, 7), (20_000, 50, 8)]:
         cell = cc.simulate(n, reps, seed, tmp_path)
         print(f"n={n}: coverage {cell.coverage:.3f} [{cell.ci_low:.3f}, {cell.ci_high:.3f}]")

@@ -104,15 +104,9 @@ def test_always_valid_power_at_the_planned_size_and_the_tuning_value():
     scipy.stats.binomtest contains 0.8); the always-valid p-value has clearly less at the
     planned size, catches up with more data, and depends on the tuning value (tuned near the
     true effect it has much more power than tuned far below it)."""
-    import importlib.util
-    import sys
+    from .conftest import load_benchmark
 
-    from .conftest import PROJECT
-
-    spec = importlib.util.spec_from_file_location("sequential_power", PROJECT / "benchmarks" / "sequential_power.py")
-    sp = importlib.util.module_from_spec(spec)
-    sys.modules["sequential_power"] = sp  # its dataclass looks itself up there
-    spec.loader.exec_module(sp)
+    sp = load_benchmark("sequential_power")
     sims = 1500
     near, far = sp.simulate(0.05, sims, 11), sp.simulate(0.01, sims, 12)
     print(f"fixed {near.fixed_power:.3f}; always-valid near {near.av_power}, far {far.av_power}")
