@@ -323,11 +323,15 @@ def ratio_score_interval(
         return _ratio_score_statistic(math.exp(log_r), x_t, n_t, x_c, n_c)
 
     def end(target: float, step: float, bounded: bool) -> float:
+        # S falls as R rises: the lower end is where S = +z, the upper where S = -z.
         if not bounded:
             return 0.0 if step < 0 else math.inf
-        start = math.log((x_t / n_t) / (x_c / n_c)) if x_t and x_c else math.log(((x_t + 0.5) / n_t) / ((x_c + 0.5) / n_c))
-        inner, outer = start, start + step
-        while (s(outer) - target) * (s(inner) - target) > 0:
+        inside = (lambda u: s(u) < target) if step < 0 else (lambda u: s(u) > target)
+        inner = math.log(((x_t + 0.5) / n_t) / ((x_c + 0.5) / n_c))  # a start near the estimate
+        while not inside(inner):  # make sure the start lies within the interval
+            inner -= step
+        outer = inner + step
+        while inside(outer):
             inner, outer = outer, outer + step
             step *= 2
             if abs(outer) > 700:
