@@ -591,11 +591,23 @@ def compare(metric: Metric, row: dict, alpha: float) -> TestResult:
         crit = critical_value(2 * alpha, g_df)  # one-sided 1 - alpha
         point, point_se = (lift, lift_se) if relative else (estimate, se)
         bound = point - crit * point_se if metric.better == "higher" else point + crit * point_se
+        if test == TEST_FISHER_EXACT and relative:
+            # With few events, test the ratio of the rates against 1 -/+ margin by the same
+            # score statistic as the lift interval, and take the bound from that interval.
+            higher = metric.better == "higher"
+            r0 = 1 - margin if higher else 1 + margin
+            score = _ratio_score_statistic(r0, x_t, treatment.n, x_c, control.n)
+            g_stat = score if higher else -score
+            g_p = float(special.ndtr(-g_stat))
+            r_lo, r_hi = ratio_score_interval(x_t, treatment.n, x_c, control.n, 2 * alpha)
+            bound = (r_lo if higher else r_hi) - 1.0
+            notes.append("guardrail margin test: score test for the ratio of the rates (Miettinen-Nurminen), "
+                         "valid with few events")
+        elif test == TEST_FISHER_EXACT:
+            notes.append("guardrail margin test uses the normal approximation, which is rough with this few events")
         harm = bool(_finite(p) and p < alpha and ((estimate < 0) if metric.better == "higher" else (estimate > 0)))
         guardrail = Guardrail(metric.better, float(margin), relative, g_stat, g_p, g_p, bound,
                               bool(_finite(g_p) and g_p < alpha), harm)
-        if test == TEST_FISHER_EXACT:
-            notes.append("guardrail margin test uses the normal approximation, which is rough with this few events")
 
     return TestResult(
         **base, test=test, reason=reason, control=control, treatment=treatment, estimate=estimate,

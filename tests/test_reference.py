@@ -270,3 +270,30 @@ def test_fisher_row_without_control_events_has_an_open_lift_interval(tmp_path, w
     assert any("no upper end" in n for n in res.notes)
     row = [r for r in json.loads(report.to_json(analysis))["results"] if r["metric"] == "converted"][0]
     assert row["lift_ci_high"] is None and row["lift_ci_low"] == approx(lo - 1)
+
+
+@pytest.mark.parametrize("better", ["higher", "lower"])
+def test_fisher_row_relative_guardrail_is_the_score_test_for_the_ratio(tmp_path, write_spec, better):
+    """With few events a relative guardrail margin is tested on the ratio of the rates with
+    the score statistic behind the lift interval (reference: statsmodels
+    test_proportions_2indep(compare="ratio", method="score") against 1 -/+ margin, one-sided;
+    the bound is the one-sided end of statsmodels' score interval at 1 - 2 alpha)."""
+    from statsmodels.stats.proportion import test_proportions_2indep
+
+    syn = make_experiment(tmp_path, units={"control": 60, "treatment": 55},
+                          conversion={"control": 0.08, "treatment": 0.12}, events_per_unit=1.0, seed=7)
+    guard = f'\nrole = "guardrail"\nbetter = "{better}"\nrelative_margin = 0.3'
+    res = by_arm(sqlstat.run(write_spec(spec_text(CONVERTED + guard))), "converted")["treatment"]
+    values = syn.unit_values(lambda r: float(r["converted"].any()))
+    xt, nt = int(values["treatment"].sum()), values["treatment"].size
+    xc, nc = int(values["control"].sum()), values["control"].size
+    assert res.test == "fisher_exact" and xt > 0 and xc > 0
+    r0, alt = (0.7, "larger") if better == "higher" else (1.3, "smaller")
+    ref = test_proportions_2indep(xt, nt, xc, nc, value=r0, compare="ratio", method="score",
+                                  alternative=alt)  # reference: statsmodels
+    lo, hi = confint_proportions_2indep(xt, nt, xc, nc, compare="ratio", method="score", alpha=0.1)
+    g = res.guardrail
+    assert g.p_value == approx(ref.pvalue)
+    assert g.statistic == approx(ref.statistic if better == "higher" else -ref.statistic)
+    assert g.bound == approx((lo if better == "higher" else hi) - 1)
+    assert g.held == (ref.pvalue < 0.05)
