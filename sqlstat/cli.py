@@ -152,7 +152,7 @@ def plan(
     spec: Path = SPEC,
     mde: Optional[float] = typer.Option(None, "--mde", help="Effect to detect, in metric units (or a share with --relative)."),
     relative: bool = typer.Option(False, "--relative", help="Read --mde as a share of the baseline, e.g. 0.05 for 5%."),
-    units: Optional[int] = typer.Option(None, "--units", help="Units per arm available: print the minimum detectable effect."),
+    units: Optional[int] = typer.Option(None, "--units", help="Units in the smallest arm (every arm, with an equal split): print the minimum detectable effect."),
     power: Optional[float] = typer.Option(None, "--power", help="Chance of detecting the effect if it is real (default: the spec's, 0.8)."),
     db: Optional[str] = typer.Option(None, "--db", help="Database URL (as for `run`)."),
     fmt: Format = typer.Option(Format.table, "--format", "-f", help="table or json."),
