@@ -131,14 +131,21 @@ def dbapi_engine(
     """Wrap any DB-API 2.0 connection. The caller keeps ownership of the connection.
 
     With ``owned`` (connections sqlstat opened from a URL), each query's transaction is
-    ended with a rollback, so no read lock outlives the query; a caller's own connection
-    and its transaction are left alone.
+    ended with a rollback, so no read lock outlives the query, and the dialect's
+    ``run_first`` statements (PostgreSQL: ``SET LOCAL jit = off``) run first inside it; a
+    caller's own connection, its settings and its transaction are left alone.
     """
     d = get_dialect(dialect)
+    first = d.run_first if owned else ()
 
     def run(sql: str) -> list[Row]:
         cursor = connection.cursor()
         try:
+            for statement in first:
+                try:
+                    cursor.execute(statement)
+                except Exception:  # a server without the setting (PostgreSQL 10): run as it is
+                    _rollback(connection)
             cursor.execute(sql)
             columns = [c[0] for c in cursor.description]
             rows = cursor.fetchall()
