@@ -48,7 +48,7 @@ def sql_folder(spec: str | Path | Experiment, folder: str | Path, *, view: str |
     target.mkdir(parents=True, exist_ok=True)
     done, skipped = compile_all(experiment, view=view, readout=readout)
     stem = "".join(c if c.isalnum() or c in "-_" else "_" for c in experiment.name)
-    written = [write_atomic(target / f"{stem}.{d}.sql", text, kinds=(".sql",), force=force) for d, text in done.items()]
+    written = [write_atomic(target / f"{stem}.{d}.sql", text, kind="sql", force=force) for d, text in done.items()]
     return written, skipped
 
 

@@ -34,7 +34,7 @@ class Format(str, Enum):
 
 SPEC = typer.Argument(..., help="The experiment spec (TOML).", show_default=False)
 DEBUG = typer.Option(False, "--debug", help="Show the full traceback on errors.")
-FORCE = typer.Option(False, "--force", help="Replace an existing output file of another kind.")
+FORCE = typer.Option(False, "--force", help="Replace an existing output file that sqlstat did not write.")
 
 
 def _fail(err: Exception, debug: bool) -> None:
@@ -46,13 +46,13 @@ def _fail(err: Exception, debug: bool) -> None:
     raise err
 
 
-def _emit(text: str, output: Optional[Path], kinds: tuple[str, ...], force: bool) -> None:
+def _emit(text: str, output: Optional[Path], kind: str, force: bool) -> None:
     if output is None:
         sys.stdout.write(text)
         return
     from .files import write_atomic
 
-    write_atomic(output, text, kinds=kinds, force=force)
+    write_atomic(output, text, kind=kind, force=force)
     typer.echo(f"wrote {output}", err=True)
 
 
@@ -78,8 +78,7 @@ def run(
         if db is None or db.lower().startswith("duckdb"):
             check_columns(experiment)  # misspelt columns of file sources: a spec error, not an engine one
         analysis = api.run(experiment, db=db)
-        kinds = {"table": (".txt",), "json": (".json",), "csv": (".csv",)}[fmt.value]
-        _emit(render(analysis, fmt.value), output, kinds, force)
+        _emit(render(analysis, fmt.value), output, fmt.value, force)
     except Exception as err:  # noqa: BLE001 - mapped to exit codes in _fail
         _fail(err, debug)
         return
@@ -119,9 +118,9 @@ def sql(
                 typer.echo(f"skipped {name}: {why}", err=True)
             return
         if daily:
-            _emit(api.daily_sql(spec, dialect, readout=readout), output, (".sql",), force)
+            _emit(api.daily_sql(spec, dialect, readout=readout), output, "sql", force)
             return
-        _emit(api.sql(spec, dialect, view=as_view, readout=readout), output, (".sql",), force)
+        _emit(api.sql(spec, dialect, view=as_view, readout=readout), output, "sql", force)
     except Exception as err:  # noqa: BLE001
         _fail(err, debug)
 
