@@ -3,13 +3,16 @@ PostgreSQL's JIT compiler, and the driver settings given as URL query parameters
 
 from __future__ import annotations
 
+from urllib.parse import urlsplit
+
 import pytest
 
 import sqlstat
 from sqlstat import engines
+from sqlstat.errors import EngineError, UsageError
 
 from .conftest import spec_text
-from .engine_fixtures import PG_URL
+from .engine_fixtures import MYSQL_URL, PG_URL, unavailable
 
 SPEND = 'name = "spend"\nkind = "mean"\nvalue = "sum(amount)"'
 CONVERTED = 'name = "converted"\nkind = "proportion"\nvalue = "count(*) > 0"'
@@ -54,3 +57,88 @@ def test_postgres_runs_of_sqlstat_are_not_jit_compiled(engine_db, pg_tables, mon
     with engines.connect(PG_URL) as eng:
         analysis = sqlstat.run(spec, engine=eng)
     assert {r.metric for r in analysis.results} == {"spend", "converted"}
+
+
+# --------------------------------------------------------------------------- URL settings
+
+@pytest.fixture(scope="module")
+def pg_server():
+    try:
+        engines.connect(PG_URL).close()
+    except EngineError as err:
+        unavailable("postgres", str(err))
+
+
+@pytest.fixture(scope="module")
+def mysql_server():
+    try:
+        engines.connect(MYSQL_URL).close()
+    except EngineError as err:
+        unavailable("mysql", str(err))
+
+
+def _with_query(url: str, query: str) -> str:
+    return url.split("?")[0] + "?" + query
+
+
+@pytest.mark.parametrize("query", ["sslmode=require", "sslmode=verify-full&connect_timeout=5"])
+def test_postgres_url_asking_for_tls_is_refused_by_a_server_without_it(query, pg_server):
+    # The local server has no TLS (ssl = off), as `psql "sslmode=require"` also finds.
+    import psycopg
+
+    with psycopg.connect(PG_URL) as con:
+        if con.execute("SHOW ssl").fetchone()[0] == "on":
+            pytest.skip("this PostgreSQL server offers TLS")
+    with pytest.raises(EngineError) as info:
+        engines.connect(_with_query(PG_URL, query))
+    text = str(info.value)
+    assert info.value.exit_code == 3 and "SSL" in text and "does not offer one" in text, text
+
+
+@pytest.mark.parametrize("query", ["ssl_mode=REQUIRED", "ssl_mode=verify_identity", "ssl_verify_cert=true"])
+def test_mysql_url_asking_for_tls_is_refused_by_a_server_without_it(query, mysql_server):
+    import pymysql
+
+    parts = urlsplit(MYSQL_URL)
+    con = pymysql.connect(host=parts.hostname, port=parts.port, user=parts.username or "root", password="")
+    with con.cursor() as cur:
+        cur.execute("SHOW VARIABLES LIKE 'have_ssl'")
+        if cur.fetchone()[1] == "YES":
+            pytest.skip("this MariaDB server offers TLS")
+    con.close()
+    with pytest.raises(EngineError) as info:
+        engines.connect(_with_query(MYSQL_URL, query))
+    text = str(info.value)
+    assert info.value.exit_code == 3 and "SSL is required" in text and "does not offer one" in text, text
+
+
+def test_postgres_url_settings_reach_the_connection(pg_server):
+    url = _with_query(PG_URL, "application_name=sqlstat-i-test&options=-c%20statement_timeout%3D4321&connect_timeout=7")
+    with engines.connect(url) as eng:
+        row = eng.run("SELECT current_setting('application_name') AS app, "
+                      "current_setting('statement_timeout') AS timeout")[0]
+    assert row == {"app": "sqlstat-i-test", "timeout": "4321ms"}
+
+
+def test_mysql_url_settings_reach_the_connection(mysql_server):
+    with engines.connect(_with_query(MYSQL_URL, "ssl_mode=DISABLED&program_name=sqlstat-i-test&read_timeout=30")) as eng:
+        assert eng.run("SELECT 1 AS one") == [{"one": 1}]
+
+
+@pytest.mark.parametrize("url, allowed", [
+    (PG_URL + "?sslmode=require&foo=bar", "sslmode, sslrootcert"),
+    (PG_URL + "?sslmod=require", "sslmode, sslrootcert"),
+    (MYSQL_URL + "?sslmode=require", "ssl_mode, ssl_ca"),
+])
+def test_unknown_url_parameters_are_an_error_naming_the_allowed_ones(url, allowed):
+    with pytest.raises(UsageError) as info:
+        engines.connect(url)
+    assert info.value.exit_code == 2 and allowed in str(info.value), str(info.value)
+
+
+@pytest.mark.parametrize("url, what", [(PG_URL + "?sslmode=bogus", "verify-full"),
+                                       (MYSQL_URL + "?ssl_mode=maybe", "VERIFY_IDENTITY"),
+                                       (MYSQL_URL + "?ssl_disabled=perhaps", "true or false")])
+def test_bad_tls_values_are_an_error_naming_the_allowed_ones(url, what):
+    with pytest.raises(UsageError, match=what):
+        engines.connect(url)
