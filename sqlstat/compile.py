@@ -52,12 +52,10 @@ def _literal(text: str) -> str:
 
 
 def _display_path(path: Path) -> str:
-    """A file path as the emitted SQL shows it: relative to the working directory if inside it."""
-    resolved = Path(os.path.abspath(path))
-    try:
-        return resolved.relative_to(Path.cwd()).as_posix()
-    except ValueError:
-        return resolved.as_posix()
+    """A file path as the emitted SQL shows it: absolute (resolved against the spec's folder
+    when the spec was read), so the text is the same from any working directory and a view
+    made from it reads the same files wherever it is queried from."""
+    return Path(os.path.abspath(path)).as_posix()
 
 
 def _source_sql(source: Source, dialect: Dialect) -> str:

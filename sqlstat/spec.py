@@ -9,6 +9,7 @@ from __future__ import annotations
 import datetime as _dt
 import difflib
 import math
+import os
 import re
 import tomllib
 from pathlib import Path
@@ -172,7 +173,7 @@ class _Checker:
                         f"source: {text!r} looks like a path but is not a .parquet/.csv/.json file; "
                         f"give a table name, a file, or a parenthesised SELECT"
                     )
-                return Source("file", text, path=Path(resolved))
+                return Source("file", text, path=Path(os.path.abspath(resolved)))
             return Source("table", text, table=ex.parse_table(stripped, "source"))
         except ex.ExpressionProblem as err:
             self.add(f"{path}.source", str(err))
