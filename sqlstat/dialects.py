@@ -46,6 +46,10 @@ class Dialect:
     max_query_bytes: int = 0
     # Query-level settings appended to the statement (ClickHouse: SETTINGS k = v).
     settings: dict[str, int] = field(default_factory=dict)
+    # Plain functions the dialect's printer itself emits for portable forms (the read-only
+    # check accepts them besides the renames): SQLite has no TIMESTAMP type, and sqlglot
+    # prints CAST(x AS TIMESTAMP) as DATETIME(x), ISO text that compares like one.
+    printer_functions: tuple[str, ...] = ()
     # Identifier quote to print with, when the dialect's usual one is unsafe.
     quote: str = ""
     # How a constant table (quadrature nodes, the metric list, the planned split) is
@@ -77,7 +81,7 @@ _DIALECTS = [
     # accents is always an identifier, so a typo becomes "no such column".
     # SQLite also lacks CREATE OR REPLACE VIEW: the view form drops the old view first.
     Dialect("sqlite", "sqlite", "SQLite", variance="centred", covariance="centred", quote="`",
-            replaces_views=False, executed="executed (embedded)"),
+            replaces_views=False, printer_functions=("datetime",), executed="executed (embedded)"),
     # Spark 4.3 fails at run time on a UNION ALL of constant rows read inside a shuffle
     # stage (ClassCastException deserialising UnionExec); a VALUES list is a local table.
     Dialect("spark", "spark", "Spark SQL", constant_tables="values", executed="executed (pyspark, local mode)"),

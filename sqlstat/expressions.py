@@ -66,6 +66,10 @@ _STRUCTURE = (
     exp.Interval, exp.Tuple,
 )
 
+# Timestamps with a time zone: every engine applies its own session zone (and SQLite has
+# no such type), so the same text would select different rows. Plain TIMESTAMP and DATE work.
+ZONED_TYPES = frozenset({exp.DataType.Type.TIMESTAMPTZ, exp.DataType.Type.TIMESTAMPLTZ})
+
 ALLOWED_FUNCTION_NAMES = sorted(set(AGGREGATES.values()) | set(SCALAR_FUNCTIONS.values()))
 
 _PREDICATES = (exp.Predicate, exp.Connector, exp.Not, exp.Boolean)
@@ -211,6 +215,12 @@ def _check_nodes(node: exp.Expression, what: str) -> None:
                 )
             if isinstance(n, exp.In) and n.args.get("query"):
                 raise ExpressionProblem(f"{what}: subqueries are not allowed; declare a source instead")
+            if isinstance(n, exp.DataType) and n.this in ZONED_TYPES:
+                raise ExpressionProblem(
+                    f"{what}: {n.sql(CANONICAL)} (a timestamp with a time zone) is not portable: engines "
+                    f"read it in different zones, and SQLite has no such type (it would compare as a "
+                    f"number); write a plain TIMESTAMP '2026-09-01 06:00:00' in the data's own zone"
+                )
             continue
         if isinstance(n, (exp.Query, exp.Subquery)):
             raise ExpressionProblem(f"{what}: subqueries are not allowed; declare a source instead")
