@@ -698,9 +698,73 @@ def decide(arms: list[str], results: list[TestResult], srm: SampleRatio | None) 
 # --------------------------------------------------------------------------- the whole analysis
 
 
+# Columns of the query's rows that hold labels; every other column holds a number.
+TEXT_COLUMNS = frozenset({"metric", "kind", "role", "method", "segment", "segment_value", "arm", "direction"})
+# Columns without which the rows cannot be read as the query's output.
+REQUIRED_COLUMNS = ("metric_index", "arm", "units", "n", "mean")
+
+
+def _missing(value: Any) -> bool:
+    """None, NaN (pandas' missing value in float columns), pandas' NA/NaT, or '' (CSV)."""
+    if value is None or (isinstance(value, str) and value.strip() == ""):
+        return True
+    if isinstance(value, float):
+        return math.isnan(value)
+    try:
+        return bool(value != value)  # NaN-like scalars (numpy, pandas NA/NaT) are not equal to themselves
+    except (TypeError, ValueError):
+        return False
+
+
+def coerce_rows(rows: Iterable[dict]) -> list[dict]:
+    """Rows from anywhere (the engines, pandas records, csv.DictReader) -> the engines' form.
+
+    Column names in lower case; a missing value (None, NaN, pandas NA, an empty CSV field)
+    becomes None; labels become str; numbers (numpy scalars, Decimal, numeric strings from
+    CSV) become float. A value that is not a number in a numeric column is an error naming
+    the row and the column.
+    """
+    from .errors import UsageError
+
+    out: list[dict] = []
+    for i, row in enumerate(rows, 1):
+        if not hasattr(row, "items"):
+            raise UsageError(f"row {i} is a {type(row).__name__}, not a mapping of column names to values; "
+                             f"give rows as dicts, e.g. pandas' to_dict('records') or csv.DictReader")
+        clean: dict = {}
+        for key, value in row.items():
+            name = str(key).strip().lower()
+            if _missing(value):
+                clean[name] = None
+            elif name in TEXT_COLUMNS:
+                clean[name] = value if isinstance(value, str) else str(value.item() if hasattr(value, "item") else value)
+            elif isinstance(value, bool):
+                clean[name] = float(value)
+            else:
+                try:
+                    clean[name] = float(value.item() if hasattr(value, "item") else value)
+                except (TypeError, ValueError):
+                    raise UsageError(f"row {i}, column {name!r}: {str(value)[:40]!r} is not a number; the "
+                                     f"query returns numbers in every column but "
+                                     f"{', '.join(sorted(TEXT_COLUMNS))}") from None
+        out.append(clean)
+    absent = [c for c in REQUIRED_COLUMNS if not any(c in r for r in out)]
+    if out and absent:  # no rows at all: the source was empty, which the control check reports
+        raise UsageError(
+            f"the rows have no column {', '.join(repr(c) for c in absent)}: they do not look like the rows "
+            f"of sqlstat's query (columns found: {', '.join(sorted(out[0]))[:300]}); run the SQL of "
+            f"`sqlstat sql SPEC` and pass its rows unchanged"
+        )
+    return out
+
+
 def analyse(experiment: Experiment, rows: Iterable[dict]) -> Analysis:
-    """Rows returned by the compiled query -> the full Analysis."""
-    rows = list(rows)
+    """Rows returned by the compiled query -> the full Analysis.
+
+    Rows may come from anywhere (see coerce_rows): pandas records with NaN for NULL and
+    CSV rows of strings are read like the engines' own rows.
+    """
+    rows = coerce_rows(rows)
     notes: list[str] = []
     units: dict[str, int] = {}
     excluded = 0
@@ -738,11 +802,17 @@ def analyse(experiment: Experiment, rows: Iterable[dict]) -> Analysis:
         from .errors import DataProblem
         import difflib
 
-        hint = difflib.get_close_matches(experiment.control, list(units), n=1)
+        if any(r.get("arm") is not None and str(r["arm"]) == experiment.control for r in overall_rows):
+            raise DataProblem(
+                f"the control arm {experiment.control!r} is in the rows but with 0 units (column 'units' of its "
+                f"overall rows, those with an empty segment); nothing to compare with"
+            )
+        hint = difflib.get_close_matches(experiment.control, [a for a in units if a != experiment.control], n=1)
         extra = f"; did you mean {hint[0]!r}?" if hint else ""
         raise DataProblem(
             f"the control arm {experiment.control!r} has no units in the data{extra} "
-            f"(arms found: {', '.join(sorted(a for a, u in units.items() if u)) or 'none'})"
+            f"(arms found: {', '.join(sorted(a for a, u in units.items() if u)) or 'none'}, in "
+            f"{len(overall_rows)} overall row(s) of {len(rows)})"
         )
     srm_units = {a: units.get(a, 0) for a in (declared or units)}
     srm = sample_ratio_test(srm_units, experiment.weights, experiment.sample_ratio_alpha)
