@@ -19,7 +19,7 @@ from .dialects import DIALECTS, Dialect, finish, finish_view, get_dialect, prepa
 from .errors import CompileError
 from .templating import environment, template_dir  # noqa: F401 (template_dir: public)
 from .expressions import AGGREGATES, CANONICAL, is_predicate
-from .model import Experiment, Metric, Relation, Source
+from .model import VERDICTS, Experiment, Metric, Relation, Source
 from .readonly import check_read_only, declared_sources
 
 # Columns of every row the query returns, one row per (metric, arm), in this order.
@@ -235,6 +235,7 @@ def _result_context(experiment: Experiment, readout: bool, *, with_cuped: bool) 
         "srm_alpha": _number(experiment.sample_ratio_alpha),
         "upper_quantile": _number(1 - experiment.alpha / 2),
         "corrections": {_literal(f): _literal(m) for f, m in experiment.corrections.items()},
+        "verdict": {v: _literal(v) for v in VERDICTS},  # the verdict words, as SQL literals
     }
     if readout:
         from .distributions import template_context

@@ -25,7 +25,7 @@ from .model import (
 
 EXPERIMENT_KEYS = (
     "name", "control", "alpha", "weights", "arms", "sample_ratio_alpha", "segments", "correction",
-    "power", "always_valid", "mixing_sd", "description", "daily",
+    "power", "always_valid", "fastest_detected_lift", "mixing_sd", "description", "daily",
 )
 ASSIGNMENT_KEYS = ("source", "unit", "arm", "per_unit", "where", "time")
 EVENTS_KEYS = ("source", "unit", "per_unit", "where", "time")
@@ -455,9 +455,22 @@ def parse_spec(text: str, base_dir: str | Path = ".", file: str | None = None) -
                     corrections[k] = v
     power = c.probability(exp_t, "power", "experiment", 0.8)
     always_valid = c.boolean(exp_t, "always_valid", "experiment")
-    mixing_sd = c.number(exp_t, "mixing_sd", "experiment", positive=True)
+    # The relative effect the always-valid test (mSPRT) detects fastest: its mixing standard
+    # deviation as a share of the control value, the method's published "mixing_sd".
+    spec_notes: list[str] = []
+    lift_key = "fastest_detected_lift"
+    mixing_sd = c.number(exp_t, lift_key, "experiment", positive=True)
+    if "mixing_sd" in exp_t:
+        if lift_key in exp_t:
+            c.add("experiment.mixing_sd", f"'mixing_sd' is the old name of {lift_key!r}; give only {lift_key!r}")
+        else:
+            lift_key = "mixing_sd"
+            mixing_sd = c.number(exp_t, "mixing_sd", "experiment", positive=True)
+            spec_notes.append("spec key experiment.mixing_sd is deprecated and will be dropped in the next release: "
+                              "write fastest_detected_lift (same meaning: the relative effect the always-valid test "
+                              "detects fastest)")
     if mixing_sd is not None and not always_valid:
-        c.add("experiment.mixing_sd", "'mixing_sd' tunes always-valid results; set always_valid = true too")
+        c.add(f"experiment.{lift_key}", f"{lift_key!r} tunes always-valid results; set always_valid = true too")
     daily = c.boolean(exp_t, "daily", "experiment")
 
     pre_t = c.table(doc, "pre_period", required=False)
@@ -530,6 +543,7 @@ def parse_spec(text: str, base_dir: str | Path = ".", file: str | None = None) -
         mixing_sd=mixing_sd if mixing_sd is not None else 0.05,
         daily=daily,
         spec_path=Path(file) if file else None,
+        notes=tuple(spec_notes),
     )
 
 

@@ -28,6 +28,11 @@ from .model import (
     TEST_TWO_PROPORTION_Z,
     TEST_WELCH_T,
     TEST_Z_KNOWN_SIGMA,
+    VERDICT_FAVOURABLE,
+    VERDICT_INVALID,
+    VERDICT_UNCLEAR,
+    VERDICT_UNFAVOURABLE,
+    VERDICTS,
     Experiment,
     Metric,
 )
@@ -154,9 +159,6 @@ class Decision:
     reasons: tuple[str, ...]
 
 
-VERDICTS = ("adopt", "reject", "inconclusive", "invalid")
-
-
 @dataclass(frozen=True)
 class Analysis:
     """Everything the report shows: arms, the sample-ratio check and every comparison."""
@@ -173,6 +175,11 @@ class Analysis:
     decisions: tuple[Decision, ...] = ()
     corrections: dict[str, str] = field(default_factory=dict)
     data_problems: tuple[str, ...] = ()  # the notes that mean the data does not match the plan
+
+    @property
+    def verdicts(self) -> tuple[Decision, ...]:
+        """The verdict per treatment arm (the same objects as ``decisions``, the older name)."""
+        return self.decisions
 
     @property
     def overall(self) -> tuple[TestResult, ...]:
@@ -635,15 +642,16 @@ def decide(arms: list[str], results: list[TestResult], srm: SampleRatio | None) 
     """One verdict per treatment arm from the sample-ratio gate, the primary metric and guardrails.
 
     invalid: the sample-ratio check failed, so no comparison can be trusted.
-    reject: the primary metric got significantly worse, or a guardrail showed significant harm.
-    adopt: the primary metric improved significantly and every guardrail held its margin.
-    inconclusive: anything else (no detectable effect, or a guardrail not yet shown safe).
+    unfavourable: the primary metric got significantly worse, or a guardrail showed significant harm.
+    favourable: the primary metric improved significantly and every guardrail held its margin.
+    unclear: anything else (no detectable effect, or a guardrail not yet shown safe).
+    The words are model.VERDICTS; none of them is a test outcome, and none is the decision.
     """
     decisions = []
     for arm in arms:
         reasons: list[str] = []
         if srm is not None and srm.mismatch:
-            decisions.append(Decision(arm, "invalid", (
+            decisions.append(Decision(arm, VERDICT_INVALID, (
                 f"sample-ratio mismatch (p = {srm.p_value:.2g}): the split of units differs from the plan, "
                 "so assignment or logging is broken; find the cause before reading any result",)))
             continue
@@ -652,7 +660,7 @@ def decide(arms: list[str], results: list[TestResult], srm: SampleRatio | None) 
         guards = [r for r in mine if r.guardrail is not None]
         harmed = [r for r in guards if r.guardrail.harm]
         unproven = [r for r in guards if not r.guardrail.held and not r.guardrail.harm]
-        verdict = "inconclusive"
+        verdict = VERDICT_UNCLEAR
         for r in harmed:
             reasons.append(f"guardrail {r.metric} got significantly worse (estimate {r.estimate:+.4g}, p = {r.p_value:.2g})")
         for r in unproven:
@@ -664,7 +672,7 @@ def decide(arms: list[str], results: list[TestResult], srm: SampleRatio | None) 
             if r.guardrail.held:
                 reasons.append(f"guardrail {r.metric} held (no worse than its margin, one-sided p = {r.guardrail.p_value_adjusted:.2g})")
         if harmed:
-            verdict = "reject"
+            verdict = VERDICT_UNFAVOURABLE
         for r in primary:
             p = r.p_value_adjusted
             if not _finite(p):
@@ -686,9 +694,9 @@ def decide(arms: list[str], results: list[TestResult], srm: SampleRatio | None) 
                 f"(estimate {r.estimate:+.4g}, p = {p:.2g})"
             )
             if not improved:
-                verdict = "reject"
-            elif verdict != "reject" and not unproven:
-                verdict = "adopt"
+                verdict = VERDICT_UNFAVOURABLE
+            elif verdict != VERDICT_UNFAVOURABLE and not unproven:
+                verdict = VERDICT_FAVOURABLE
         if not primary:
             reasons.append("no primary metric: declare one with role = \"primary\" for a verdict")
         decisions.append(Decision(arm, verdict, tuple(reasons)))
@@ -852,7 +860,7 @@ def analyse(experiment: Experiment, rows: Iterable[dict]) -> Analysis:
         excluded_units=excluded,
         sample_ratio=srm,
         results=tuple(results),
-        notes=tuple(problems + notes),
+        notes=tuple(problems + notes + list(experiment.notes)),
         data_problems=tuple(problems),
         targets=tuple(targets),
         decisions=tuple(decisions),
