@@ -24,14 +24,17 @@ def _experiment(spec: str | Path | Experiment) -> Experiment:
 
 
 def sql(spec: str | Path | Experiment, dialect: str = "duckdb", *, pretty: bool = True, view: str | None = None,
-        readout: bool = False) -> str:
+        readout: bool = False, double_percent: bool = False) -> str:
     """The experiment's one read-only SELECT, in ``dialect`` (default DuckDB).
 
     With ``readout``, the query also carries p-values, intervals, adjusted p-values, the
     guardrail status and the verdict in its own columns (for dashboards); with ``view``,
-    it is wrapped as a CREATE OR REPLACE VIEW statement of that name.
+    it is wrapped as a CREATE OR REPLACE VIEW statement of that name. With
+    ``double_percent``, ``%`` is written ``%%`` for clients that run the text with
+    parameters (psycopg, pymysql), which read ``%`` as a placeholder.
     """
-    return compile_sql(_experiment(spec), dialect, pretty=pretty, view=view, readout=readout)
+    return compile_sql(_experiment(spec), dialect, pretty=pretty, view=view, readout=readout,
+                       double_percent=double_percent)
 
 
 def sql_folder(spec: str | Path | Experiment, folder: str | Path, *, view: str | None = None,

@@ -103,6 +103,10 @@ def sql(
     ),
     daily: bool = typer.Option(False, "--daily", help="The daily cumulative view instead: the readout as of each day "
                                "(the spec needs daily = true and time columns)."),
+    double_percent: bool = typer.Option(
+        False, "--double-percent", help="Write every % as %% for clients that run the text with parameters "
+        "(psycopg, pymysql, pandas read_sql with params), which read % as a placeholder.",
+    ),
     force: bool = FORCE,
     debug: bool = DEBUG,
 ) -> None:
@@ -118,9 +122,12 @@ def sql(
                 typer.echo(f"skipped {name}: {why}", err=True)
             return
         if daily:
-            _emit(api.daily_sql(spec, dialect, readout=readout), output, "sql", force)
+            from .compile import doubled_percent
+
+            text = api.daily_sql(spec, dialect, readout=readout)
+            _emit(doubled_percent(text) if double_percent else text, output, "sql", force)
             return
-        _emit(api.sql(spec, dialect, view=as_view, readout=readout), output, "sql", force)
+        _emit(api.sql(spec, dialect, view=as_view, readout=readout, double_percent=double_percent), output, "sql", force)
     except Exception as err:  # noqa: BLE001
         _fail(err, debug)
 

@@ -317,12 +317,35 @@ def _finish(canonical: str, d: Dialect, pretty: bool, experiment: Experiment, vi
                 f"the query is {len(text.encode()):,} bytes, more than {d.title} parses by default "
                 f"({d.max_query_bytes:,}); raise the engine's limit, or split the metrics over two specs"
             )
+    if ";" in text:
+        # Runners that split a script on ';' (many BI tools, migration runners) would cut it.
+        raise CompileError(
+            f"the query would contain ';' inside its text, which tools that split SQL scripts on ';' "
+            f"cut in two; it comes from the spec ({_semicolon_sources(experiment)}): remove the ';'"
+        )
     # Last step, on the exact text handed out: prove it only reads what the spec declared.
     tables, files = declared_sources(experiment, d, lambda src: _display_path(src.path))
     check_read_only(text, d, tables=tables, files=files)
     if view is not None:
         return finish_view(statements[0], d, view, pretty=pretty) + ";\n"
     return text
+
+
+def _semicolon_sources(experiment: Experiment) -> str:
+    """Which spec values put a ';' into the query: names, labels and string literals."""
+    found = [f"experiment name {experiment.name!r}"] if ";" in experiment.name else []
+    labels = [experiment.control, *(experiment.arms or ()), *(experiment.weights or {})]
+    found += [f"arm label {a!r}" for a in dict.fromkeys(labels) if ";" in a]
+    found += [f"metric name {m.name!r}" for m in experiment.metrics if ";" in m.name]
+    trees = [t for m in experiment.metrics for t in (m.value, m.denominator) if t is not None]
+    for rel in (experiment.assignment, experiment.events):
+        if rel is not None and rel.where is not None:
+            trees.append(rel.where)
+    for tree in trees:
+        for lit in tree.find_all(exp.Literal):
+            if lit.is_string and ";" in lit.this:
+                found.append(f"string literal {lit.this!r}")
+    return ", ".join(found) or "a name or literal"
 
 
 def compile_baseline(experiment: Experiment, dialect: str | Dialect = "duckdb", *, pretty: bool = True) -> str:
@@ -333,16 +356,25 @@ def compile_baseline(experiment: Experiment, dialect: str | Dialect = "duckdb", 
 
 def compile_sql(
     experiment: Experiment, dialect: str | Dialect = "duckdb", *, pretty: bool = True, view: str | None = None,
-    readout: bool = False,
+    readout: bool = False, double_percent: bool = False,
 ) -> str:
     """Compile an experiment into one read-only SELECT in ``dialect`` (a name or a Dialect).
 
     The same experiment and dialect always give byte-identical text. With ``view``, the
     SELECT is wrapped as ``CREATE OR REPLACE VIEW view AS ...`` for scheduled use; with
     ``readout``, the query also carries p-values, intervals, adjustments and verdicts.
+    With ``double_percent``, every ``%`` is written ``%%``, for clients that read ``%`` as
+    a parameter marker when the text is run with parameters (psycopg, pymysql, pandas'
+    ``read_sql(..., params=...)``); the text is then only for such clients.
     """
     d = dialect if isinstance(dialect, Dialect) else get_dialect(dialect)
-    return _finish(render_canonical(experiment, d, readout=readout), d, pretty, experiment, view)
+    text = _finish(render_canonical(experiment, d, readout=readout), d, pretty, experiment, view)
+    return doubled_percent(text) if double_percent else text
+
+
+def doubled_percent(text: str) -> str:
+    """The text for clients that read ``%`` as a parameter marker (psycopg, pymysql)."""
+    return text.replace("%", "%%")
 
 
 def compile_all(

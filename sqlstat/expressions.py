@@ -255,9 +255,44 @@ def _portable(node: exp.Expression) -> exp.Expression:
             return n.__class__(this=_as_number(n.this))
         if isinstance(n, exp.If) and not isinstance(n.parent, exp.Case):
             return exp.Case(ifs=[exp.If(this=n.this, true=n.args.get("true"))], default=n.args.get("false"))
+        if isinstance(n, _COMPARISONS) and any(_is_timestamp(o) for o in _operands(n)):
+            return _both_timestamps(n)
         return n
 
     return node.copy().transform(rewrite)
+
+
+_COMPARISONS = (exp.EQ, exp.NEQ, exp.GT, exp.GTE, exp.LT, exp.LTE, exp.Between)
+
+
+_PLAIN_TIMESTAMPS = {exp.DataType.Type.TIMESTAMP, exp.DataType.Type.TIMESTAMPNTZ, exp.DataType.Type.DATETIME}
+
+
+def _is_timestamp(node: exp.Expression) -> bool:
+    return isinstance(node, exp.Cast) and node.to.this in _PLAIN_TIMESTAMPS
+
+
+def _operands(n: exp.Expression) -> list[exp.Expression]:
+    if isinstance(n, exp.Between):
+        return [n.this, n.args["low"], n.args["high"]]
+    return [n.this, n.expression]
+
+
+def _both_timestamps(n: exp.Expression) -> exp.Expression:
+    """A comparison with a timestamp on one side compares timestamps on every side.
+
+    Engines promote a DATE compared with a TIMESTAMP to midnight, but SQLite stores both
+    as text, and '2026-09-03' sorts before '2026-09-03 00:00:00': casting every side (SQLite:
+    DATETIME(...)) gives each engine the same comparison of timestamps.
+    """
+    to = next(o.to for o in _operands(n) if _is_timestamp(o))
+
+    def cast(o: exp.Expression) -> exp.Expression:
+        return o if _is_timestamp(o) else exp.Cast(this=o, to=to.copy())
+
+    if isinstance(n, exp.Between):
+        return exp.Between(this=cast(n.this), low=cast(n.args["low"]), high=cast(n.args["high"]))
+    return n.__class__(this=cast(n.this), expression=cast(n.expression))
 
 
 def parse_value(text: str, what: str, *, aggregated: bool) -> exp.Expression:

@@ -41,8 +41,14 @@ _NAME = re.compile(r"^[A-Za-z_][A-Za-z0-9_.\-]{0,99}$")
 MAX_LABEL_CHARS = 200  # arm labels and the experiment name: printed in every readout
 
 
-def _label_problem(value: str, what: str) -> str | None:
-    """Why a label (arm, experiment name) cannot be used, or None when it is fine."""
+def _label_problem(value: str, what: str, *, in_sql: bool = True) -> str | None:
+    """Why a label (arm, experiment name) cannot be used, or None when it is fine.
+
+    Labels that go into the query (arm labels) may not contain ';': tools that split SQL
+    scripts on ';' would cut the query there.
+    """
+    if in_sql and ";" in value:
+        return f"{what} contains ';', which would cut the query in two for tools that split SQL on ';'; rename it"
     if len(value) > MAX_LABEL_CHARS:
         return f"{what} is {len(value):,} characters long; the limit is {MAX_LABEL_CHARS}"
     bad = ex.invisible_characters(value)
@@ -173,7 +179,13 @@ class _Checker:
                         f"source: {text!r} looks like a path but is not a .parquet/.csv/.json file; "
                         f"give a table name, a file, or a parenthesised SELECT"
                     )
-                return Source("file", text, path=Path(os.path.abspath(resolved)))
+                absolute = Path(os.path.abspath(resolved))
+                if ";" in str(absolute):
+                    raise ex.ExpressionProblem(
+                        f"source: the path {str(absolute)!r} contains ';', which would cut the query in two "
+                        f"for tools that split SQL on ';'; rename the file or its folder"
+                    )
+                return Source("file", text, path=absolute)
             return Source("table", text, table=ex.parse_table(stripped, "source"))
         except ex.ExpressionProblem as err:
             self.add(f"{path}.source", str(err))
@@ -374,7 +386,7 @@ def parse_spec(text: str, base_dir: str | Path = ".", file: str | None = None) -
     exp_t = c.table(doc, "experiment", required=True) or {}
     c.unknown_keys(exp_t, EXPERIMENT_KEYS, "experiment")
     name = c.string(exp_t, "name", "experiment")
-    if name is not None and (why := _label_problem(name, "the experiment name")):
+    if name is not None and (why := _label_problem(name, "the experiment name", in_sql=False)):
         c.add("experiment.name", why)
         name = None
     control = exp_t.get("control")

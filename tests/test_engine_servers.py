@@ -22,8 +22,8 @@ JIT_EVERYTHING = "-c jit=on -c jit_above_cost=0"
 
 
 @pytest.fixture(scope="module")
-def pg_tables(request):
-    db = request.getfixturevalue("engine_db")
+def pg_tables(engine_db):
+    db = engine_db
     from .test_engines import matrix_data
 
     assignments, events = matrix_data(seed=4, units_per_arm=30)

@@ -26,8 +26,8 @@ FILTERS = {
 
 
 @pytest.fixture(scope="module")
-def day_tables(request):
-    db = request.getfixturevalue("engine_db")
+def day_tables(engine_db):
+    db = engine_db
     assignments, events = matrix_data(seed=21, units_per_arm=40)
     rng = np.random.default_rng(21)
     events = {"unit": events["unit"], "amount": events["amount"],
