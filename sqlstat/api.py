@@ -98,13 +98,17 @@ def run(
 
     experiment = _experiment(spec)
     owned = False
+    query = None
     if engine is None:
         if connection is not None:
             engine = engines.engine_for(connection, dialect)
         else:
+            # Compile first: a spec the URL's engine cannot run (file sources on Spark) is
+            # refused before a server is contacted or a JVM started.
+            query = compile_sql(experiment, engines.url_dialect(db))
             engine, owned = engines.connect(db), True
     try:
-        rows = engine.run(compile_sql(experiment, engine.dialect), experiment)
+        rows = engine.run(query or compile_sql(experiment, engine.dialect), experiment)
     finally:
         if owned:
             engine.close()

@@ -33,6 +33,22 @@ class Format(str, Enum):
 
 
 SPEC = typer.Argument(..., help="The experiment spec (TOML).", show_default=False)
+
+
+def _show_version(value: bool) -> None:
+    if value:
+        from . import __version__
+
+        typer.echo(f"sqlstat {__version__}")
+        raise typer.Exit()
+
+
+@app.callback()
+def _main(
+    version: bool = typer.Option(False, "--version", callback=_show_version, is_eager=True,
+                                 help="Print sqlstat's version and exit."),
+) -> None:
+    """Experiment metrics -> one read-only SQL query -> tested statistics."""
 DEBUG = typer.Option(False, "--debug", help="Show the full traceback on errors.")
 FORCE = typer.Option(False, "--force", help="Replace an existing output file that sqlstat did not write.")
 
@@ -146,9 +162,10 @@ def check(
         from .spec import check_columns, load_spec
 
         experiment = load_spec(spec)
-        if columns:
-            check_columns(experiment)
+        checked = check_columns(experiment) if columns else []
         sys.stdout.write(plan_text(experiment))
+        if columns:
+            sys.stdout.write("Columns checked:\n" + "".join(f"  {line}\n" for line in checked or ["no file sources to check"]))
     except Exception as err:  # noqa: BLE001
         _fail(err, debug)
 
@@ -169,6 +186,10 @@ def plan(
         from . import api
         from .report import plan_report
 
+        if fmt.value == "csv":
+            from .errors import UsageError
+
+            raise UsageError("plan prints a table or JSON: use --format table or --format json")
         result = api.plan(spec, mde=mde, relative=relative, units=units, power=power, db=db)
         sys.stdout.write(plan_report(result, "json" if fmt.value == "json" else "table"))
     except Exception as err:  # noqa: BLE001

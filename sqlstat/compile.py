@@ -280,7 +280,7 @@ def render_baseline(experiment: Experiment, dialect: str | Dialect = "duckdb") -
     if experiment.pre_period is None:
         raise CompileError(
             "planning needs a [pre_period] table (source, unit, time, start, end) to read each "
-            "metric's baseline from; or give the baseline with --baseline-mean/--baseline-sd"
+            "metric's baseline from; add one to the spec"
         )
     measures, pairs, metrics = [], [], []
     for m in experiment.metrics:

@@ -330,6 +330,16 @@ def _spark_from_url(url: str) -> Engine:
     return eng
 
 
+def url_dialect(url: str | None) -> str:
+    """The dialect a database URL runs (DuckDB for None), without connecting."""
+    if url is None or url in ("", "duckdb://", "duckdb:///:memory:"):
+        return "duckdb"
+    scheme = url.split(":", 1)[0].lower().split("+")[0] if "://" in url else ""
+    if scheme not in URL_SCHEMES:
+        raise UsageError(f"unsupported database URL {mask_secrets(url)!r}: use one of {', '.join(URL_FORMS)}")
+    return URL_SCHEMES[scheme]
+
+
 def connect(url: str | None = None) -> Engine:
     """Open an engine from a URL; None means DuckDB in memory.
 
@@ -340,13 +350,10 @@ def connect(url: str | None = None) -> Engine:
     Three slashes start a relative path, four an absolute one. Passwords never appear in
     messages.
     """
+    dialect = url_dialect(url)
     if url is None or url in ("", "duckdb://", "duckdb:///:memory:"):
         return duckdb_engine()
-    scheme = url.split(":", 1)[0].lower().split("+")[0] if "://" in url else ""
     masked = mask_secrets(url)
-    if scheme not in URL_SCHEMES:
-        raise UsageError(f"unsupported database URL {masked!r}: use one of {', '.join(URL_FORMS)}")
-    dialect = URL_SCHEMES[scheme]
     if dialect == "spark":
         return _spark_from_url(url)
     parts = urlsplit(url)

@@ -31,6 +31,15 @@ VERDICTS = (VERDICT_FAVOURABLE, VERDICT_UNFAVOURABLE, VERDICT_UNCLEAR, VERDICT_I
 # The words of release 0.1, still written under the JSON key "decisions" for one release.
 LEGACY_VERDICTS = {VERDICT_FAVOURABLE: "adopt", VERDICT_UNFAVOURABLE: "reject", VERDICT_UNCLEAR: "inconclusive",
                    VERDICT_INVALID: "invalid"}
+
+
+def format_p(p: object) -> str:
+    """A p-value as every readout prints it (table, reasons, notes): one format everywhere."""
+    if not isinstance(p, float) or p != p or p in (float("inf"), float("-inf")):
+        return "-"
+    return "<1e-16" if p < 1e-16 else (f"{p:.2e}" if p < 1e-4 else f"{p:.4f}")
+
+
 # A guardrail's status, the same words in the table, the JSON and the docs.
 GUARDRAIL_HELD, GUARDRAIL_HARMED, GUARDRAIL_NOT_SHOWN = "held", "harmed", "not shown"
 MISSING_POLICIES: tuple[str, ...] = ("zero", "exclude")

@@ -8,7 +8,7 @@ import json
 import math
 from typing import TYPE_CHECKING, Any
 
-from .model import GUARDRAIL_HARMED, GUARDRAIL_HELD, GUARDRAIL_NOT_SHOWN, LEGACY_VERDICTS
+from .model import GUARDRAIL_HARMED, GUARDRAIL_HELD, GUARDRAIL_NOT_SHOWN, LEGACY_VERDICTS, format_p
 
 if TYPE_CHECKING:  # report only reads results; importing stats would pull in SciPy
     from .stats import Analysis, TestResult
@@ -171,10 +171,7 @@ def _fmt(x: Any, digits: int = 4) -> str:
     return f"{x:.{digits}g}"
 
 
-def _p(p: float) -> str:
-    if not isinstance(p, float) or not math.isfinite(p):
-        return "-"
-    return "<1e-16" if p < 1e-16 else (f"{p:.2e}" if p < 1e-4 else f"{p:.4f}")
+_p = format_p
 
 
 def _table(headers: list[str], rows: list[list[str]]) -> str:

@@ -618,14 +618,16 @@ def _file_columns(path: Path) -> list[str]:
         return [row[0] for row in con.execute(f"DESCRIBE SELECT * FROM {reader}({literal})").fetchall()]
 
 
-def check_columns(experiment: Experiment, text: str | None = None) -> None:
+def check_columns(experiment: Experiment, text: str | None = None) -> list[str]:
     """Check every column the spec names against the columns of its file sources.
 
     Only file sources can be inspected without a database connection; table and query
     sources are left to the engine. Raises one SpecError listing every unknown column,
-    with the nearest existing name. Opt-in (``sqlstat check --columns``) and done by
-    ``sqlstat run`` on DuckDB, because it reads the files.
+    with the nearest existing name; otherwise returns one line per source saying what was
+    checked. Opt-in (``sqlstat check --columns``) and done by ``sqlstat run`` on DuckDB,
+    because it reads the files.
     """
+    checked: list[str] = []
     file = str(experiment.spec_path) if experiment.spec_path else None
     if text is None and experiment.spec_path is not None and experiment.spec_path.is_file():
         text = experiment.spec_path.read_text(encoding="utf-8")
@@ -666,13 +668,22 @@ def check_columns(experiment: Experiment, text: str | None = None) -> None:
             c.add(f"{path}.source", f"cannot read {rel.source.text!r}: {str(err).splitlines()[0]}")
             continue
         known = {col.lower() for col in columns}
+        seen: set[str] = set()
         for key, node in uses[path]:
             from sqlglot import exp
 
             cols = [node] if isinstance(node, exp.Column) else list(node.find_all(exp.Column))
             for col in cols:
+                seen.add(col.name.lower())
                 if col.name.lower() not in known:
                     c.add(key, f"column {col.name!r} is not in {rel.source.text!r}{_suggest(col.name, columns)} "
                                f"(columns: {', '.join(columns)})")
+        checked.append(f"{len(seen)} column(s) of [{path}] found in {rel.source.text!r} ({', '.join(sorted(seen))})")
     if c.problems:
         raise SpecError(c.problems, file)
+    skipped = [f"[{p}] ({rel.source.text.strip()!r})" for p, rel in sources
+               if rel is not None and rel.source.kind != "file" and uses[p]]
+    if skipped:
+        checked.append(f"not checked, left to the engine: {', '.join(skipped)} (tables and queries are "
+                       f"only known to the database)")
+    return checked

@@ -35,6 +35,7 @@ from .model import (
     VERDICTS,
     Experiment,
     Metric,
+    format_p,
 )
 
 Alternative = Literal["two-sided", "less", "greater"]
@@ -652,7 +653,7 @@ def decide(arms: list[str], results: list[TestResult], srm: SampleRatio | None) 
         reasons: list[str] = []
         if srm is not None and srm.mismatch:
             decisions.append(Decision(arm, VERDICT_INVALID, (
-                f"sample-ratio mismatch (p = {srm.p_value:.2g}): the split of units differs from the plan, "
+                f"sample-ratio mismatch (p = {format_p(srm.p_value)}): the split of units differs from the plan, "
                 "so assignment or logging is broken; find the cause before reading any result",)))
             continue
         mine = [r for r in results if r.arm == arm and r.segment is None]
@@ -662,15 +663,15 @@ def decide(arms: list[str], results: list[TestResult], srm: SampleRatio | None) 
         unproven = [r for r in guards if not r.guardrail.held and not r.guardrail.harm]
         verdict = VERDICT_UNCLEAR
         for r in harmed:
-            reasons.append(f"guardrail {r.metric} got significantly worse (estimate {r.estimate:+.4g}, p = {r.p_value:.2g})")
+            reasons.append(f"guardrail {r.metric} got significantly worse (estimate {r.estimate:+.4g}, p = {format_p(r.p_value)})")
         for r in unproven:
             reasons.append(
                 f"guardrail {r.metric} is not yet shown within its margin "
-                f"(one-sided p = {r.guardrail.p_value_adjusted:.2g})"
+                f"(one-sided p = {format_p(r.guardrail.p_value_adjusted)})"
             )
         for r in guards:
             if r.guardrail.held:
-                reasons.append(f"guardrail {r.metric} held (no worse than its margin, one-sided p = {r.guardrail.p_value_adjusted:.2g})")
+                reasons.append(f"guardrail {r.metric} held (no worse than its margin, one-sided p = {format_p(r.guardrail.p_value_adjusted)})")
         if harmed:
             verdict = VERDICT_UNFAVOURABLE
         for r in primary:
@@ -681,17 +682,17 @@ def decide(arms: list[str], results: list[TestResult], srm: SampleRatio | None) 
             better = r.better
             if not r.significant:
                 reasons.append(
-                    f"primary metric {r.metric}: no significant difference (p = {p:.2g}; interval "
+                    f"primary metric {r.metric}: no significant difference (p = {format_p(p)}; interval "
                     f"[{r.ci_low:.4g}, {r.ci_high:.4g}] still includes 0); check power before concluding there is no effect"
                 )
                 continue
             if better is None:
-                reasons.append(f"primary metric {r.metric} differs (p = {p:.2g}) but no 'better' direction is declared")
+                reasons.append(f"primary metric {r.metric} differs (p = {format_p(p)}) but no 'better' direction is declared")
                 continue
             improved = (r.estimate > 0) == (better == "higher")
             reasons.append(
                 f"primary metric {r.metric} {'improved' if improved else 'got worse'} significantly "
-                f"(estimate {r.estimate:+.4g}, p = {p:.2g})"
+                f"(estimate {r.estimate:+.4g}, p = {format_p(p)})"
             )
             if not improved:
                 verdict = VERDICT_UNFAVOURABLE
