@@ -11,6 +11,7 @@ import difflib
 import math
 import os
 import re
+import stat
 import tomllib
 from pathlib import Path
 from typing import Any
@@ -105,7 +106,7 @@ def _toml_syntax_problem(err: tomllib.TOMLDecodeError, text: str) -> Problem:
     lines = text.splitlines()
     src = lines[line - 1] if line and line <= len(lines) else None
     msg = re.sub(r"\s*\(at line \d+, column \d+\)", "", str(err))
-    return Problem(f"TOML syntax error: {msg}", "", line, src)
+    return Problem(f"TOML syntax error: {msg}", "", line, src, int(m.group(2)) if m and src is not None else None)
 
 
 class _Checker:
@@ -360,13 +361,33 @@ class _Checker:
         return PrePeriod(src, unit, time, start.isoformat(), end.isoformat(), where)
 
 
+MAX_SPEC_BYTES = 1_000_000  # a spec is a few KB; anything near this is not a spec
+
+
 def load_spec(path: str | Path) -> Experiment:
-    """Read and check a spec file. Raises SpecError naming file, key path and line."""
+    """Read and check a spec file. Raises SpecError naming file, key path and line.
+
+    The spec must be a regular file of at most MAX_SPEC_BYTES: a pipe, a device or a
+    folder is refused before it is opened (reading one could wait or read forever).
+    """
     path = Path(path)
     try:
-        text = path.read_text(encoding="utf-8")
+        info = path.stat()
     except FileNotFoundError:
         raise SpecError([Problem(f"spec file not found: {path}")], str(path)) from None
+    except OSError as err:
+        raise SpecError([Problem(f"cannot read spec file: {err}")], str(path)) from None
+    if not stat.S_ISREG(info.st_mode):
+        kind = "a folder" if stat.S_ISDIR(info.st_mode) else "a pipe, socket or device"
+        raise SpecError([Problem(f"the spec must be a regular file; this is {kind}")], str(path))
+    if info.st_size > MAX_SPEC_BYTES:
+        raise SpecError([Problem(f"the spec file is {info.st_size:,} bytes; the limit is {MAX_SPEC_BYTES:,}")], str(path))
+    try:
+        with open(path, "rb") as fh:
+            raw = fh.read(MAX_SPEC_BYTES + 1)
+        if len(raw) > MAX_SPEC_BYTES:  # it grew after the check
+            raise SpecError([Problem(f"the spec file is over the limit of {MAX_SPEC_BYTES:,} bytes")], str(path))
+        text = raw.decode("utf-8")
     except (OSError, UnicodeDecodeError) as err:
         raise SpecError([Problem(f"cannot read spec file: {err}")], str(path)) from None
     return parse_spec(text, base_dir=path.parent, file=str(path))
