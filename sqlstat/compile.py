@@ -317,15 +317,15 @@ def _finish(canonical: str, d: Dialect, pretty: bool, experiment: Experiment, vi
                 f"the query is {len(text.encode()):,} bytes, more than {d.title} parses by default "
                 f"({d.max_query_bytes:,}); raise the engine's limit, or split the metrics over two specs"
             )
-    if ";" in text:
+    # Last step, on the exact text handed out: prove it only reads what the spec declared.
+    tables, files = declared_sources(experiment, d, lambda src: _display_path(src.path))
+    check_read_only(text, d, tables=tables, files=files)
+    if ";" in text:  # after the proof, which names an added statement as such
         # Runners that split a script on ';' (many BI tools, migration runners) would cut it.
         raise CompileError(
             f"the query would contain ';' inside its text, which tools that split SQL scripts on ';' "
             f"cut in two; it comes from the spec ({_semicolon_sources(experiment)}): remove the ';'"
         )
-    # Last step, on the exact text handed out: prove it only reads what the spec declared.
-    tables, files = declared_sources(experiment, d, lambda src: _display_path(src.path))
-    check_read_only(text, d, tables=tables, files=files)
     if view is not None:
         return finish_view(statements[0], d, view, pretty=pretty) + ";\n"
     return text
