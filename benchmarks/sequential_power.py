@@ -4,7 +4,7 @@ An experiment is planned with `sqlstat plan`'s own sample-size function for 80% 
 (two-sided fixed-horizon test at alpha = 0.05) to detect a relative effect on a mean.
 Each simulated experiment has that true effect and is looked at once a day for 30 days
 until the planned size is reached. For each tuning value of the sequential test (the
-spec's `mixing_sd`: the mixing distribution's standard deviation as a share of the control
+spec's `fastest_detected_lift` (formerly `mixing_sd`): the mixing distribution's standard deviation as a share of the control
 mean) the script reports the share of experiments whose always-valid p-value (running
 minimum over the looks, sqlstat.stats.msprt) is below alpha by the planned size, and by
 twice and four times that size (looks continuing at the same daily rate), next to the

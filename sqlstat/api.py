@@ -24,14 +24,17 @@ def _experiment(spec: str | Path | Experiment) -> Experiment:
 
 
 def sql(spec: str | Path | Experiment, dialect: str = "duckdb", *, pretty: bool = True, view: str | None = None,
-        readout: bool = False) -> str:
+        readout: bool = False, double_percent: bool = False) -> str:
     """The experiment's one read-only SELECT, in ``dialect`` (default DuckDB).
 
     With ``readout``, the query also carries p-values, intervals, adjusted p-values, the
     guardrail status and the verdict in its own columns (for dashboards); with ``view``,
-    it is wrapped as a CREATE OR REPLACE VIEW statement of that name.
+    it is wrapped as a CREATE OR REPLACE VIEW statement of that name. With
+    ``double_percent``, ``%`` is written ``%%`` for clients that run the text with
+    parameters (psycopg, pymysql), which read ``%`` as a placeholder.
     """
-    return compile_sql(_experiment(spec), dialect, pretty=pretty, view=view, readout=readout)
+    return compile_sql(_experiment(spec), dialect, pretty=pretty, view=view, readout=readout,
+                       double_percent=double_percent)
 
 
 def sql_folder(spec: str | Path | Experiment, folder: str | Path, *, view: str | None = None,
@@ -48,7 +51,7 @@ def sql_folder(spec: str | Path | Experiment, folder: str | Path, *, view: str |
     target.mkdir(parents=True, exist_ok=True)
     done, skipped = compile_all(experiment, view=view, readout=readout)
     stem = "".join(c if c.isalnum() or c in "-_" else "_" for c in experiment.name)
-    written = [write_atomic(target / f"{stem}.{d}.sql", text, kinds=(".sql",), force=force) for d, text in done.items()]
+    written = [write_atomic(target / f"{stem}.{d}.sql", text, kind="sql", force=force) for d, text in done.items()]
     return written, skipped
 
 
@@ -95,13 +98,17 @@ def run(
 
     experiment = _experiment(spec)
     owned = False
+    query = None
     if engine is None:
         if connection is not None:
             engine = engines.engine_for(connection, dialect)
         else:
+            # Compile first: a spec the URL's engine cannot run (file sources on Spark) is
+            # refused before a server is contacted or a JVM started.
+            query = compile_sql(experiment, engines.url_dialect(db))
             engine, owned = engines.connect(db), True
     try:
-        rows = engine.run(compile_sql(experiment, engine.dialect), experiment)
+        rows = engine.run(query or compile_sql(experiment, engine.dialect), experiment)
     finally:
         if owned:
             engine.close()

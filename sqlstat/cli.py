@@ -33,8 +33,24 @@ class Format(str, Enum):
 
 
 SPEC = typer.Argument(..., help="The experiment spec (TOML).", show_default=False)
+
+
+def _show_version(value: bool) -> None:
+    if value:
+        from . import __version__
+
+        typer.echo(f"sqlstat {__version__}")
+        raise typer.Exit()
+
+
+@app.callback()
+def _main(
+    version: bool = typer.Option(False, "--version", callback=_show_version, is_eager=True,
+                                 help="Print sqlstat's version and exit."),
+) -> None:
+    """Experiment metrics -> one read-only SQL query -> tested statistics."""
 DEBUG = typer.Option(False, "--debug", help="Show the full traceback on errors.")
-FORCE = typer.Option(False, "--force", help="Replace an existing output file of another kind.")
+FORCE = typer.Option(False, "--force", help="Replace an existing output file that sqlstat did not write.")
 
 
 def _fail(err: Exception, debug: bool) -> None:
@@ -46,13 +62,13 @@ def _fail(err: Exception, debug: bool) -> None:
     raise err
 
 
-def _emit(text: str, output: Optional[Path], kinds: tuple[str, ...], force: bool) -> None:
+def _emit(text: str, output: Optional[Path], kind: str, force: bool) -> None:
     if output is None:
         sys.stdout.write(text)
         return
     from .files import write_atomic
 
-    write_atomic(output, text, kinds=kinds, force=force)
+    write_atomic(output, text, kind=kind, force=force)
     typer.echo(f"wrote {output}", err=True)
 
 
@@ -78,8 +94,7 @@ def run(
         if db is None or db.lower().startswith("duckdb"):
             check_columns(experiment)  # misspelt columns of file sources: a spec error, not an engine one
         analysis = api.run(experiment, db=db)
-        kinds = {"table": (".txt",), "json": (".json",), "csv": (".csv",)}[fmt.value]
-        _emit(render(analysis, fmt.value), output, kinds, force)
+        _emit(render(analysis, fmt.value), output, fmt.value, force)
     except Exception as err:  # noqa: BLE001 - mapped to exit codes in _fail
         _fail(err, debug)
         return
@@ -104,6 +119,10 @@ def sql(
     ),
     daily: bool = typer.Option(False, "--daily", help="The daily cumulative view instead: the readout as of each day "
                                "(the spec needs daily = true and time columns)."),
+    double_percent: bool = typer.Option(
+        False, "--double-percent", help="Write every % as %% for clients that run the text with parameters "
+        "(psycopg, pymysql, pandas read_sql with params), which read % as a placeholder.",
+    ),
     force: bool = FORCE,
     debug: bool = DEBUG,
 ) -> None:
@@ -119,9 +138,12 @@ def sql(
                 typer.echo(f"skipped {name}: {why}", err=True)
             return
         if daily:
-            _emit(api.daily_sql(spec, dialect, readout=readout), output, (".sql",), force)
+            from .compile import doubled_percent
+
+            text = api.daily_sql(spec, dialect, readout=readout)
+            _emit(doubled_percent(text) if double_percent else text, output, "sql", force)
             return
-        _emit(api.sql(spec, dialect, view=as_view, readout=readout), output, (".sql",), force)
+        _emit(api.sql(spec, dialect, view=as_view, readout=readout, double_percent=double_percent), output, "sql", force)
     except Exception as err:  # noqa: BLE001
         _fail(err, debug)
 
@@ -140,9 +162,10 @@ def check(
         from .spec import check_columns, load_spec
 
         experiment = load_spec(spec)
-        if columns:
-            check_columns(experiment)
+        checked = check_columns(experiment) if columns else []
         sys.stdout.write(plan_text(experiment))
+        if columns:
+            sys.stdout.write("Columns checked:\n" + "".join(f"  {line}\n" for line in checked or ["no file sources to check"]))
     except Exception as err:  # noqa: BLE001
         _fail(err, debug)
 
@@ -163,6 +186,10 @@ def plan(
         from . import api
         from .report import plan_report
 
+        if fmt.value == "csv":
+            from .errors import UsageError
+
+            raise UsageError("plan prints a table or JSON: use --format table or --format json")
         result = api.plan(spec, mde=mde, relative=relative, units=units, power=power, db=db)
         sys.stdout.write(plan_report(result, "json" if fmt.value == "json" else "table"))
     except Exception as err:  # noqa: BLE001

@@ -19,7 +19,7 @@ from .dialects import DIALECTS, Dialect, finish, finish_view, get_dialect, prepa
 from .errors import CompileError
 from .templating import environment, template_dir  # noqa: F401 (template_dir: public)
 from .expressions import AGGREGATES, CANONICAL, is_predicate
-from .model import Experiment, Metric, Relation, Source
+from .model import VERDICTS, Experiment, Metric, Relation, Source
 from .readonly import check_read_only, declared_sources
 
 # Columns of every row the query returns, one row per (metric, arm), in this order.
@@ -52,12 +52,10 @@ def _literal(text: str) -> str:
 
 
 def _display_path(path: Path) -> str:
-    """A file path as the emitted SQL shows it: relative to the working directory if inside it."""
-    resolved = Path(os.path.abspath(path))
-    try:
-        return resolved.relative_to(Path.cwd()).as_posix()
-    except ValueError:
-        return resolved.as_posix()
+    """A file path as the emitted SQL shows it: absolute (resolved against the spec's folder
+    when the spec was read), so the text is the same from any working directory and a view
+    made from it reads the same files wherever it is queried from."""
+    return Path(os.path.abspath(path)).as_posix()
 
 
 def _source_sql(source: Source, dialect: Dialect) -> str:
@@ -237,6 +235,7 @@ def _result_context(experiment: Experiment, readout: bool, *, with_cuped: bool) 
         "srm_alpha": _number(experiment.sample_ratio_alpha),
         "upper_quantile": _number(1 - experiment.alpha / 2),
         "corrections": {_literal(f): _literal(m) for f, m in experiment.corrections.items()},
+        "verdict": {v: _literal(v) for v in VERDICTS},  # the verdict words, as SQL literals
     }
     if readout:
         from .distributions import template_context
@@ -281,7 +280,7 @@ def render_baseline(experiment: Experiment, dialect: str | Dialect = "duckdb") -
     if experiment.pre_period is None:
         raise CompileError(
             "planning needs a [pre_period] table (source, unit, time, start, end) to read each "
-            "metric's baseline from; or give the baseline with --baseline-mean/--baseline-sd"
+            "metric's baseline from; add one to the spec"
         )
     measures, pairs, metrics = [], [], []
     for m in experiment.metrics:
@@ -322,9 +321,32 @@ def _finish(canonical: str, d: Dialect, pretty: bool, experiment: Experiment, vi
     # Last step, on the exact text handed out: prove it only reads what the spec declared.
     tables, files = declared_sources(experiment, d, lambda src: _display_path(src.path))
     check_read_only(text, d, tables=tables, files=files)
+    if ";" in text:  # after the proof, which names an added statement as such
+        # Runners that split a script on ';' (many BI tools, migration runners) would cut it.
+        raise CompileError(
+            f"the query would contain ';' inside its text, which tools that split SQL scripts on ';' "
+            f"cut in two; it comes from the spec ({_semicolon_sources(experiment)}): remove the ';'"
+        )
     if view is not None:
         return finish_view(statements[0], d, view, pretty=pretty) + ";\n"
     return text
+
+
+def _semicolon_sources(experiment: Experiment) -> str:
+    """Which spec values put a ';' into the query: names, labels and string literals."""
+    found = [f"experiment name {experiment.name!r}"] if ";" in experiment.name else []
+    labels = [experiment.control, *(experiment.arms or ()), *(experiment.weights or {})]
+    found += [f"arm label {a!r}" for a in dict.fromkeys(labels) if ";" in a]
+    found += [f"metric name {m.name!r}" for m in experiment.metrics if ";" in m.name]
+    trees = [t for m in experiment.metrics for t in (m.value, m.denominator) if t is not None]
+    for rel in (experiment.assignment, experiment.events):
+        if rel is not None and rel.where is not None:
+            trees.append(rel.where)
+    for tree in trees:
+        for lit in tree.find_all(exp.Literal):
+            if lit.is_string and ";" in lit.this:
+                found.append(f"string literal {lit.this!r}")
+    return ", ".join(found) or "a name or literal"
 
 
 def compile_baseline(experiment: Experiment, dialect: str | Dialect = "duckdb", *, pretty: bool = True) -> str:
@@ -335,16 +357,25 @@ def compile_baseline(experiment: Experiment, dialect: str | Dialect = "duckdb", 
 
 def compile_sql(
     experiment: Experiment, dialect: str | Dialect = "duckdb", *, pretty: bool = True, view: str | None = None,
-    readout: bool = False,
+    readout: bool = False, double_percent: bool = False,
 ) -> str:
     """Compile an experiment into one read-only SELECT in ``dialect`` (a name or a Dialect).
 
     The same experiment and dialect always give byte-identical text. With ``view``, the
     SELECT is wrapped as ``CREATE OR REPLACE VIEW view AS ...`` for scheduled use; with
     ``readout``, the query also carries p-values, intervals, adjustments and verdicts.
+    With ``double_percent``, every ``%`` is written ``%%``, for clients that read ``%`` as
+    a parameter marker when the text is run with parameters (psycopg, pymysql, pandas'
+    ``read_sql(..., params=...)``); the text is then only for such clients.
     """
     d = dialect if isinstance(dialect, Dialect) else get_dialect(dialect)
-    return _finish(render_canonical(experiment, d, readout=readout), d, pretty, experiment, view)
+    text = _finish(render_canonical(experiment, d, readout=readout), d, pretty, experiment, view)
+    return doubled_percent(text) if double_percent else text
+
+
+def doubled_percent(text: str) -> str:
+    """The text for clients that read ``%`` as a parameter marker (psycopg, pymysql)."""
+    return text.replace("%", "%%")
 
 
 def compile_all(

@@ -46,12 +46,19 @@ class Dialect:
     max_query_bytes: int = 0
     # Query-level settings appended to the statement (ClickHouse: SETTINGS k = v).
     settings: dict[str, int] = field(default_factory=dict)
+    # Plain functions the dialect's printer itself emits for portable forms (the read-only
+    # check accepts them besides the renames): SQLite has no TIMESTAMP type, and sqlglot
+    # prints CAST(x AS TIMESTAMP) as DATETIME(x), ISO text that compares like one.
+    printer_functions: tuple[str, ...] = ()
     # Identifier quote to print with, when the dialect's usual one is unsafe.
     quote: str = ""
     # How a constant table (quadrature nodes, the metric list, the planned split) is
     # written: "union" (SELECT ... UNION ALL SELECT ..., which every engine reads) or
     # "values" (one VALUES list, for engines where a long UNION ALL of constants breaks).
     constant_tables: str = "union"
+    # Statements sqlstat runs first inside the read-only transaction of a connection it
+    # opened itself (from a URL), each lasting for that one query only.
+    run_first: tuple[str, ...] = ()
     executed: str = "parsed only"  # how the test suite covers it (README support table)
 
 
@@ -59,7 +66,11 @@ _DIALECTS = [
     # DuckDB, PostgreSQL (Youngs-Cramer, since 12), MariaDB (Welford) and Spark (central
     # moments, updated online) have stable native variances: checked on NumAcc1-4 here.
     Dialect("duckdb", "duckdb", "DuckDB", reads_files=True, executed="executed (embedded)"),
-    Dialect("postgres", "postgres", "PostgreSQL", executed="executed (server)"),
+    # PostgreSQL (11+, jit = on by default) JIT-compiles any query whose planner cost passes
+    # jit_above_cost; the emitted query is long and its cost estimate large, so compiling
+    # took 20-60x the query's own time (46 s of JIT for a 2 s query). Off for our query only.
+    Dialect("postgres", "postgres", "PostgreSQL", run_first=("SET LOCAL jit = off",),
+            executed="executed (server)"),
     # MariaDB has no sqlglot dialect of its own; MySQL's is the right one for what we emit.
     # MySQL and MariaDB have VAR_SAMP but no covariance aggregate.
     # MariaDB refuses more than 64 WITH elements (error 4003).
@@ -70,7 +81,7 @@ _DIALECTS = [
     # accents is always an identifier, so a typo becomes "no such column".
     # SQLite also lacks CREATE OR REPLACE VIEW: the view form drops the old view first.
     Dialect("sqlite", "sqlite", "SQLite", variance="centred", covariance="centred", quote="`",
-            replaces_views=False, executed="executed (embedded)"),
+            replaces_views=False, printer_functions=("datetime",), executed="executed (embedded)"),
     # Spark 4.3 fails at run time on a UNION ALL of constant rows read inside a shuffle
     # stage (ClassCastException deserialising UnionExec); a VALUES list is a local table.
     Dialect("spark", "spark", "Spark SQL", constant_tables="values", executed="executed (pyspark, local mode)"),

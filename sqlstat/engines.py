@@ -131,14 +131,21 @@ def dbapi_engine(
     """Wrap any DB-API 2.0 connection. The caller keeps ownership of the connection.
 
     With ``owned`` (connections sqlstat opened from a URL), each query's transaction is
-    ended with a rollback, so no read lock outlives the query; a caller's own connection
-    and its transaction are left alone.
+    ended with a rollback, so no read lock outlives the query, and the dialect's
+    ``run_first`` statements (PostgreSQL: ``SET LOCAL jit = off``) run first inside it; a
+    caller's own connection, its settings and its transaction are left alone.
     """
     d = get_dialect(dialect)
+    first = d.run_first if owned else ()
 
     def run(sql: str) -> list[Row]:
         cursor = connection.cursor()
         try:
+            for statement in first:
+                try:
+                    cursor.execute(statement)
+                except Exception:  # a server without the setting (PostgreSQL 10): run as it is
+                    _rollback(connection)
             cursor.execute(sql)
             columns = [c[0] for c in cursor.description]
             rows = cursor.fetchall()
@@ -323,6 +330,16 @@ def _spark_from_url(url: str) -> Engine:
     return eng
 
 
+def url_dialect(url: str | None) -> str:
+    """The dialect a database URL runs (DuckDB for None), without connecting."""
+    if url is None or url in ("", "duckdb://", "duckdb:///:memory:"):
+        return "duckdb"
+    scheme = url.split(":", 1)[0].lower().split("+")[0] if "://" in url else ""
+    if scheme not in URL_SCHEMES:
+        raise UsageError(f"unsupported database URL {mask_secrets(url)!r}: use one of {', '.join(URL_FORMS)}")
+    return URL_SCHEMES[scheme]
+
+
 def connect(url: str | None = None) -> Engine:
     """Open an engine from a URL; None means DuckDB in memory.
 
@@ -333,13 +350,10 @@ def connect(url: str | None = None) -> Engine:
     Three slashes start a relative path, four an absolute one. Passwords never appear in
     messages.
     """
+    dialect = url_dialect(url)
     if url is None or url in ("", "duckdb://", "duckdb:///:memory:"):
         return duckdb_engine()
-    scheme = url.split(":", 1)[0].lower().split("+")[0] if "://" in url else ""
     masked = mask_secrets(url)
-    if scheme not in URL_SCHEMES:
-        raise UsageError(f"unsupported database URL {masked!r}: use one of {', '.join(URL_FORMS)}")
-    dialect = URL_SCHEMES[scheme]
     if dialect == "spark":
         return _spark_from_url(url)
     parts = urlsplit(url)
@@ -365,7 +379,73 @@ def connect(url: str | None = None) -> Engine:
     return _server(dialect, parts, masked)
 
 
+# Connection settings a server URL may carry as query parameters, passed to the driver:
+# libpq's own keywords for PostgreSQL (psycopg), pymysql's for MySQL/MariaDB, plus
+# ssl_mode (MySQL's client option) mapped onto pymysql's. Anything else is an error, so a
+# misspelt TLS setting is never silently dropped.
+PG_SSLMODES = ("disable", "allow", "prefer", "require", "verify-ca", "verify-full")
+MYSQL_SSL_MODES = ("DISABLED", "PREFERRED", "REQUIRED", "VERIFY_CA", "VERIFY_IDENTITY")
+URL_PARAMETERS = {
+    "postgres": ("sslmode", "sslrootcert", "sslcert", "sslkey", "sslcrl", "connect_timeout",
+                 "application_name", "options", "target_session_attrs", "gssencmode", "channel_binding"),
+    "mysql": ("ssl_mode", "ssl_ca", "ssl_cert", "ssl_key", "ssl_verify_cert", "ssl_verify_identity",
+              "ssl_disabled", "connect_timeout", "read_timeout", "charset", "program_name"),
+}
+_MYSQL_FLAGS = ("ssl_verify_cert", "ssl_verify_identity", "ssl_disabled")
+_MYSQL_NUMBERS = ("connect_timeout", "read_timeout")
+
+
+def _url_settings(dialect: str, query: str, masked: str) -> dict[str, Any]:
+    """The URL's query parameters -> keyword arguments for the driver, checked."""
+    allowed = URL_PARAMETERS[dialect]
+    out: dict[str, Any] = {}
+    for key, value in parse_qsl(query, keep_blank_values=True):
+        if key not in allowed:
+            raise UsageError(f"unknown connection parameter {key!r} in database URL {masked!r}; "
+                             f"{get_dialect(dialect).title} URLs accept: {', '.join(allowed)}")
+        if key in out:
+            raise UsageError(f"connection parameter {key!r} is given twice in database URL {masked!r}")
+        out[key] = value
+    if dialect == "postgres":
+        if "sslmode" in out and out["sslmode"] not in PG_SSLMODES:
+            raise UsageError(f"bad sslmode {out['sslmode']!r} in database URL {masked!r}: use one of "
+                             f"{', '.join(PG_SSLMODES)}")
+        return out
+    for key in _MYSQL_FLAGS:
+        if key in out:
+            if out[key].lower() not in ("true", "false", "1", "0"):
+                raise UsageError(f"{key} in database URL {masked!r} must be true or false")
+            out[key] = out[key].lower() in ("true", "1")
+    for key in _MYSQL_NUMBERS:
+        if key in out:
+            try:
+                out[key] = int(out[key])
+            except ValueError:
+                raise UsageError(f"{key} in database URL {masked!r} must be a whole number of seconds") from None
+    mode = out.pop("ssl_mode", None)
+    if mode is not None:
+        if mode.upper() not in MYSQL_SSL_MODES:
+            raise UsageError(f"bad ssl_mode {mode!r} in database URL {masked!r}: use one of {', '.join(MYSQL_SSL_MODES)}")
+        mode = mode.upper()
+        if mode == "DISABLED":
+            out["ssl_disabled"] = True
+        elif mode == "REQUIRED" and not (out.get("ssl_verify_cert") or out.get("ssl_verify_identity")):
+            import ssl
+
+            context = ssl.create_default_context(cafile=out.pop("ssl_ca", None))
+            context.check_hostname, context.verify_mode = False, ssl.CERT_NONE  # encrypted, not verified
+            if "ssl_cert" in out:
+                context.load_cert_chain(out.pop("ssl_cert"), out.pop("ssl_key", None))
+            out["ssl"] = context  # pymysql then refuses a server without TLS
+        elif mode == "VERIFY_CA":
+            out["ssl_verify_cert"] = True
+        elif mode == "VERIFY_IDENTITY":
+            out["ssl_verify_cert"] = out["ssl_verify_identity"] = True
+    return out
+
+
 def _server(dialect: str, parts, masked: str) -> Engine:
+    settings = _url_settings(dialect, parts.query, masked)
     host = parts.hostname or "127.0.0.1"
     try:
         port = parts.port
@@ -381,20 +461,20 @@ def _server(dialect: str, parts, masked: str) -> Engine:
                 import psycopg
             except ImportError:
                 raise UsageError("PostgreSQL needs the psycopg package: pip install 'sqlstat[engines]'") from None
-            con = psycopg.connect(
-                host=host, port=port or 5432, user=user, password=password, dbname=database,
-                connect_timeout=10, autocommit=False,
-            )
+            con = psycopg.connect(**{
+                "host": host, "port": port or 5432, "user": user, "password": password, "dbname": database,
+                "connect_timeout": 10, **settings, "autocommit": False,
+            })
             con.read_only = True  # every query runs in a read-only transaction, never committed
         else:
             try:
                 import pymysql
             except ImportError:
                 raise UsageError("MySQL/MariaDB needs the pymysql package: pip install 'sqlstat[engines]'") from None
-            con = pymysql.connect(
-                host=host, port=port or 3306, user=user or "root", password=password or "",
-                database=database, connect_timeout=10,
-            )
+            con = pymysql.connect(**{
+                "host": host, "port": port or 3306, "user": user or "root", "password": password or "",
+                "database": database, "connect_timeout": 10, **settings,
+            })
     except UsageError:
         raise
     except Exception as err:
@@ -408,6 +488,9 @@ def _server(dialect: str, parts, masked: str) -> Engine:
 
 def _connection_hint(message: str) -> str:
     low = message.lower()
+    if "ssl" in low and ("required" in low or "not support" in low):
+        return (". The URL asks for an encrypted (TLS) connection and this server does not offer one: "
+                "connect to a server with TLS, or change sslmode (PostgreSQL) / ssl_mode (MySQL) in the URL.")
     if "refused" in low or "can't connect" in low:
         return ". Nothing answered at that host and port: is the server running, and is the port right?"
     if "access denied" in low or "authentication failed" in low or re.search(r"role .* does not exist", low):

@@ -25,6 +25,7 @@ class Problem:
     key: str = ""  # dotted key path, e.g. "metric[1].kind"
     line: int | None = None  # 1-based line in the spec file, when known
     source_line: str | None = None  # the text of that line
+    column: int | None = None  # 1-based column of the problem in that line, when known
 
     def render(self, file: str | None) -> str:
         where = []
@@ -35,8 +36,31 @@ class Problem:
         head = " ".join(f"[{w}]" if i else w for i, w in enumerate(where))
         text = f"{head}: {self.message}" if head else self.message
         if self.source_line is not None:
-            text += f"\n    {self.line} | {self.source_line.rstrip()}"
+            text += echo_line(self.line, self.source_line, self.column)
         return text
+
+
+MAX_ECHO_CHARS = 120  # an echoed spec line longer than this is cut around the problem
+
+
+def echo_line(number: int | None, line: str, column: int | None = None) -> str:
+    """The offending source line as messages show it: at most MAX_ECHO_CHARS of it, cut
+    around ``column`` (marked with ^ below the line) when the line is longer."""
+    text = line.rstrip()
+    gutter = f"    {number} | "
+    start = 0
+    if len(text) > MAX_ECHO_CHARS:
+        centre = (column or 1) - 1
+        start = max(0, min(centre - MAX_ECHO_CHARS // 2, len(text) - MAX_ECHO_CHARS))
+    piece = text[start:start + MAX_ECHO_CHARS]
+    lead = "..." if start else ""
+    tail = "..." if start + MAX_ECHO_CHARS < len(text) else ""
+    out = f"\n{gutter}{lead}{piece}{tail}"
+    if column is not None:
+        out += f"\n{' ' * (len(gutter) - 2)}| {' ' * (len(lead) + column - 1 - start)}^ column {column}"
+    if lead or tail:
+        out += f"\n    (line {number} is {len(text):,} characters long; shown: columns {start + 1}-{start + len(piece)})"
+    return out
 
 
 class SpecError(SqlstatError):

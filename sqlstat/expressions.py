@@ -66,6 +66,10 @@ _STRUCTURE = (
     exp.Interval, exp.Tuple,
 )
 
+# Timestamps with a time zone: every engine applies its own session zone (and SQLite has
+# no such type), so the same text would select different rows. Plain TIMESTAMP and DATE work.
+ZONED_TYPES = frozenset({exp.DataType.Type.TIMESTAMPTZ, exp.DataType.Type.TIMESTAMPLTZ})
+
 ALLOWED_FUNCTION_NAMES = sorted(set(AGGREGATES.values()) | set(SCALAR_FUNCTIONS.values()))
 
 _PREDICATES = (exp.Predicate, exp.Connector, exp.Not, exp.Boolean)
@@ -211,6 +215,12 @@ def _check_nodes(node: exp.Expression, what: str) -> None:
                 )
             if isinstance(n, exp.In) and n.args.get("query"):
                 raise ExpressionProblem(f"{what}: subqueries are not allowed; declare a source instead")
+            if isinstance(n, exp.DataType) and n.this in ZONED_TYPES:
+                raise ExpressionProblem(
+                    f"{what}: {n.sql(CANONICAL)} (a timestamp with a time zone) is not portable: engines "
+                    f"read it in different zones, and SQLite has no such type (it would compare as a "
+                    f"number); write a plain TIMESTAMP '2026-09-01 06:00:00' in the data's own zone"
+                )
             continue
         if isinstance(n, (exp.Query, exp.Subquery)):
             raise ExpressionProblem(f"{what}: subqueries are not allowed; declare a source instead")
@@ -245,9 +255,44 @@ def _portable(node: exp.Expression) -> exp.Expression:
             return n.__class__(this=_as_number(n.this))
         if isinstance(n, exp.If) and not isinstance(n.parent, exp.Case):
             return exp.Case(ifs=[exp.If(this=n.this, true=n.args.get("true"))], default=n.args.get("false"))
+        if isinstance(n, _COMPARISONS) and any(_is_timestamp(o) for o in _operands(n)):
+            return _both_timestamps(n)
         return n
 
     return node.copy().transform(rewrite)
+
+
+_COMPARISONS = (exp.EQ, exp.NEQ, exp.GT, exp.GTE, exp.LT, exp.LTE, exp.Between)
+
+
+_PLAIN_TIMESTAMPS = {exp.DataType.Type.TIMESTAMP, exp.DataType.Type.TIMESTAMPNTZ, exp.DataType.Type.DATETIME}
+
+
+def _is_timestamp(node: exp.Expression) -> bool:
+    return isinstance(node, exp.Cast) and node.to.this in _PLAIN_TIMESTAMPS
+
+
+def _operands(n: exp.Expression) -> list[exp.Expression]:
+    if isinstance(n, exp.Between):
+        return [n.this, n.args["low"], n.args["high"]]
+    return [n.this, n.expression]
+
+
+def _both_timestamps(n: exp.Expression) -> exp.Expression:
+    """A comparison with a timestamp on one side compares timestamps on every side.
+
+    Engines promote a DATE compared with a TIMESTAMP to midnight, but SQLite stores both
+    as text, and '2026-09-03' sorts before '2026-09-03 00:00:00': casting every side (SQLite:
+    DATETIME(...)) gives each engine the same comparison of timestamps.
+    """
+    to = next(o.to for o in _operands(n) if _is_timestamp(o))
+
+    def cast(o: exp.Expression) -> exp.Expression:
+        return o if _is_timestamp(o) else exp.Cast(this=o, to=to.copy())
+
+    if isinstance(n, exp.Between):
+        return exp.Between(this=cast(n.this), low=cast(n.args["low"]), high=cast(n.args["high"]))
+    return n.__class__(this=cast(n.this), expression=cast(n.expression))
 
 
 def parse_value(text: str, what: str, *, aggregated: bool) -> exp.Expression:

@@ -1,13 +1,38 @@
-"""Text -> a file on disk, atomically, without clobbering a file of another kind."""
+"""Text -> a file on disk, atomically, replacing only a file that sqlstat wrote.
+
+The rule for an existing file is the same whatever its name: it is replaced when its
+content starts the way sqlstat's output of that format starts (so a nightly job can write
+the same path every night, with any file name), and otherwise only with ``force``.
+"""
 
 from __future__ import annotations
 
 import os
+import re
 import stat
 import tempfile
 from pathlib import Path
 
 from .errors import UsageError
+
+
+# How each output format of sqlstat begins (tests check every form against these).
+SIGNATURES: dict[str, re.Pattern[str]] = {
+    # the query as sqlstat prints it (optionally behind the view statements): WITH and a
+    # quoted CTE name, e.g. WITH "assigned_units" AS (
+    "sql": re.compile(r'(?:[^\n]*\bVIEW\b[^\n]*\n){0,2}WITH\s+(?:"\w+"|`\w+`|\[\w+\])\s+AS\s+\(', re.I),
+    "json": re.compile(r'\{\s*"experiment"\s*:'),  # to_json's first key
+    "csv": re.compile(r"experiment,metric,"),  # to_csv's header
+    "table": re.compile(r"Experiment: "),  # to_text's first line
+}
+HEAD_BYTES = 4096  # how much of an existing file is read to recognise it
+
+
+def written_by_sqlstat(path: Path, kind: str) -> bool:
+    """True when the file at ``path`` begins like sqlstat's ``kind`` output."""
+    with open(path, "rb") as fh:
+        head = fh.read(HEAD_BYTES).decode("utf-8", errors="replace").lstrip("\ufeff")
+    return bool(SIGNATURES[kind].match(head))
 
 
 def _resolve_target(target: Path) -> Path:
@@ -25,11 +50,12 @@ def _resolve_target(target: Path) -> Path:
     return real
 
 
-def write_atomic(path: str | Path, text: str, *, kinds: tuple[str, ...], force: bool = False) -> Path:
-    """Write ``text`` to ``path`` through a temporary file and a rename.
+def write_atomic(path: str | Path, text: str, *, kind: str, force: bool = False) -> Path:
+    """Write ``text`` (sqlstat's output of format ``kind``) to ``path``, atomically.
 
-    An existing file is replaced only when its suffix is one of ``kinds`` (say ``.sql``
-    when writing SQL) or ``force`` is set, so a report never lands on a spec or data file.
+    An existing file is replaced only when sqlstat wrote it (it begins like sqlstat's
+    ``kind`` output; see SIGNATURES), whatever its name, or when ``force`` is set, so a
+    report never lands on a spec, a data file or someone's notes.
     Folders, devices and pipes are never replaced, even with ``force``. If anything fails
     before the rename, the old file is untouched and the temporary file is removed.
     """
@@ -40,10 +66,10 @@ def write_atomic(path: str | Path, text: str, *, kinds: tuple[str, ...], force: 
     if target.exists():
         if not stat.S_ISREG(target.stat().st_mode):
             raise UsageError(f"{named} is not a regular file (a device or pipe); give a file name")
-        if not force and target.suffix.lower() not in kinds:
+        if not force and not written_by_sqlstat(target, kind):
             raise UsageError(
-                f"{named} exists and is not a {'/'.join(kinds)} file; refusing to overwrite it "
-                f"(use --force to replace it anyway)"
+                f"{named} exists and does not look like {kind} output that sqlstat wrote; refusing to "
+                f"replace it (use --force to replace it anyway)"
             )
     parent = target.parent if str(target.parent) else Path(".")
     if not parent.is_dir():

@@ -19,6 +19,29 @@ Role = Literal["primary", "secondary", "guardrail"]
 Correction = Literal["none", "holm", "bh"]
 
 METRIC_KINDS: tuple[str, ...] = ("proportion", "mean", "ratio")
+
+# The readout's verdict per treatment arm, input to a decision and worded so that no
+# statistician reads it as a test outcome (no "reject", "accept" or "significant"). The
+# Python layer (stats.decide) and the SQL readout (templates/readout.sql.j2) both use these.
+VERDICT_FAVOURABLE = "favourable"  # the primary metric improved and every guardrail held
+VERDICT_UNFAVOURABLE = "unfavourable"  # the primary metric got worse, or a guardrail showed harm
+VERDICT_UNCLEAR = "unclear"  # anything else
+VERDICT_INVALID = "invalid"  # sample-ratio mismatch: nothing can be read
+VERDICTS = (VERDICT_FAVOURABLE, VERDICT_UNFAVOURABLE, VERDICT_UNCLEAR, VERDICT_INVALID)
+# The words of release 0.1, still written under the JSON key "decisions" for one release.
+LEGACY_VERDICTS = {VERDICT_FAVOURABLE: "adopt", VERDICT_UNFAVOURABLE: "reject", VERDICT_UNCLEAR: "inconclusive",
+                   VERDICT_INVALID: "invalid"}
+
+
+def format_p(p: object) -> str:
+    """A p-value as every readout prints it (table, reasons, notes): one format everywhere."""
+    if not isinstance(p, float) or p != p or p in (float("inf"), float("-inf")):
+        return "-"
+    return "<1e-16" if p < 1e-16 else (f"{p:.2e}" if p < 1e-4 else f"{p:.4f}")
+
+
+# A guardrail's status, the same words in the table, the JSON and the docs.
+GUARDRAIL_HELD, GUARDRAIL_HARMED, GUARDRAIL_NOT_SHOWN = "held", "harmed", "not shown"
 MISSING_POLICIES: tuple[str, ...] = ("zero", "exclude")
 ROLES: tuple[str, ...] = ("primary", "secondary", "guardrail")
 DIRECTIONS: tuple[str, ...] = ("higher", "lower")
@@ -135,7 +158,9 @@ class Experiment:
     )
     power: float = 0.8  # planning default
     always_valid: bool = False  # add always-valid p-values and confidence sequences (mSPRT)
-    mixing_sd: float = 0.05  # mSPRT mixing standard deviation, as a share of the control value
+    # mSPRT mixing standard deviation, as a share of the control value: the effect the
+    # always-valid test detects fastest (spec key fastest_detected_lift; mixing_sd still read)
+    mixing_sd: float = 0.05
     daily: bool = False  # also offer the daily cumulative view (compile.compile_daily)
     spec_path: Path | None = None
     notes: tuple[str, ...] = field(default_factory=tuple)

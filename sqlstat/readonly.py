@@ -149,7 +149,7 @@ def check_read_only(
             f"source table {clash[0]!r} has the name of one of the query's own steps; "
             f"write it with its schema (e.g. public.{clash[0]}) or rename it"
         )
-    allowed_anonymous = {name.lower() for name in dialect.renames.values()}
+    allowed_anonymous = {name.lower() for name in dialect.renames.values()} | set(dialect.printer_functions)
 
     for node in tree.walk():
         if node.comments:

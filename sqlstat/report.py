@@ -8,6 +8,8 @@ import json
 import math
 from typing import TYPE_CHECKING, Any
 
+from .model import GUARDRAIL_HARMED, GUARDRAIL_HELD, GUARDRAIL_NOT_SHOWN, LEGACY_VERDICTS, format_p
+
 if TYPE_CHECKING:  # report only reads results; importing stats would pull in SciPy
     from .stats import Analysis, TestResult
 
@@ -28,10 +30,16 @@ def _num(x: Any) -> Any:
     return x
 
 
+def guardrail_status(g: Any) -> str:
+    """held, harmed or not shown: the one set of words for a guardrail's outcome."""
+    return GUARDRAIL_HELD if g.held else (GUARDRAIL_HARMED if g.harm else GUARDRAIL_NOT_SHOWN)
+
+
 def _guardrail_dict(g: Any) -> dict[str, Any] | None:
     if g is None:
         return None
     return {
+        "status": guardrail_status(g),
         "better": g.direction,
         "margin": g.margin,
         "margin_type": "relative" if g.relative else "absolute",
@@ -116,7 +124,10 @@ def to_dict(a: "Analysis") -> dict[str, Any]:
              "alternative": t.alternative, "p_value": _num(t.p_value), "significant": t.significant}
             for t in a.targets
         ],
-        "decisions": [{"arm": d.arm, "verdict": d.verdict, "reasons": list(d.reasons)} for d in a.decisions],
+        "verdicts": [{"arm": d.arm, "verdict": d.verdict, "reasons": list(d.reasons)} for d in a.verdicts],
+        # Kept for one release with the old words (adopt/reject/inconclusive/invalid); read "verdicts".
+        "decisions": [{"arm": d.arm, "verdict": LEGACY_VERDICTS[d.verdict], "reasons": list(d.reasons)}
+                      for d in a.verdicts],
         "notes": list(a.notes),
         "caution": CAUTION,
     }
@@ -169,10 +180,7 @@ def _fmt(x: Any, digits: int = 4) -> str:
     return f"{x:.{digits}g}"
 
 
-def _p(p: float) -> str:
-    if not isinstance(p, float) or not math.isfinite(p):
-        return "-"
-    return "<1e-16" if p < 1e-16 else (f"{p:.2e}" if p < 1e-4 else f"{p:.4f}")
+_p = format_p
 
 
 def _table(headers: list[str], rows: list[list[str]]) -> str:
@@ -230,10 +238,10 @@ def to_text(a: "Analysis") -> str:
     for n in a.notes:
         if not n.startswith("segment results"):
             out.append(f"Note: {n}")
-    if a.decisions:
+    if a.verdicts:
         out.append("")
         out.append("Verdict per treatment arm (input to a decision, not the decision itself):")
-        for d in a.decisions:
+        for d in a.verdicts:
             out.append(f"  {d.arm}: {d.verdict.upper()}")
             for reason in d.reasons:
                 out.append(f"    - {reason}")
@@ -256,7 +264,7 @@ def to_text(a: "Analysis") -> str:
     guards = [r for r in a.overall if r.guardrail is not None]
     if guards:
         out.append("")
-        out.append("Guardrails (one-sided non-inferiority test against the tolerated harm):")
+        out.append("Guardrails (one-sided non-inferiority test against the non-inferiority margin):")
         g_rows = []
         for r in guards:
             g = r.guardrail
@@ -264,8 +272,8 @@ def to_text(a: "Analysis") -> str:
             point = _pct(r.relative_lift) if g.relative else _fmt(r.estimate)
             g_rows.append([r.metric, r.arm, f"{g.direction} is better", margin, point,
                            _pct(g.bound) if g.relative else _fmt(g.bound), _p(g.p_value_adjusted),
-                           "HELD" if g.held else ("HARM" if g.harm else "not shown")])
-        out.append(_table(["metric", "arm", "direction", "tolerated harm", "estimate", "worst plausible",
+                           guardrail_status(g)])
+        out.append(_table(["metric", "arm", "direction", "non-inferiority margin", "estimate", "one-sided bound",
                            "p (one-sided)", "status"], g_rows))
     if a.targets:
         out.append("")
@@ -327,6 +335,7 @@ def plan_text(experiment: Any) -> str:
     e = experiment
     src = e.assignment.source
     out = [f"Spec OK: experiment {e.name!r}, control arm {e.control!r}, alpha {e.alpha:g}"]
+    out += [f"Note: {n}" for n in e.notes]
     split = (", ".join(f"{k} {v:g}" for k, v in e.weights.items()) if e.weights else "equal split")
     out.append(f"Arms: {', '.join(e.arms) if e.arms else 'taken from the data'}; planned split: {split}")
     out.append(

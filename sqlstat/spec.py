@@ -9,7 +9,9 @@ from __future__ import annotations
 import datetime as _dt
 import difflib
 import math
+import os
 import re
+import stat
 import tomllib
 from pathlib import Path
 from typing import Any
@@ -24,7 +26,7 @@ from .model import (
 
 EXPERIMENT_KEYS = (
     "name", "control", "alpha", "weights", "arms", "sample_ratio_alpha", "segments", "correction",
-    "power", "always_valid", "mixing_sd", "description", "daily",
+    "power", "always_valid", "fastest_detected_lift", "mixing_sd", "description", "daily",
 )
 ASSIGNMENT_KEYS = ("source", "unit", "arm", "per_unit", "where", "time")
 EVENTS_KEYS = ("source", "unit", "per_unit", "where", "time")
@@ -40,8 +42,14 @@ _NAME = re.compile(r"^[A-Za-z_][A-Za-z0-9_.\-]{0,99}$")
 MAX_LABEL_CHARS = 200  # arm labels and the experiment name: printed in every readout
 
 
-def _label_problem(value: str, what: str) -> str | None:
-    """Why a label (arm, experiment name) cannot be used, or None when it is fine."""
+def _label_problem(value: str, what: str, *, in_sql: bool = True) -> str | None:
+    """Why a label (arm, experiment name) cannot be used, or None when it is fine.
+
+    Labels that go into the query (arm labels) may not contain ';': tools that split SQL
+    scripts on ';' would cut the query there.
+    """
+    if in_sql and ";" in value:
+        return f"{what} contains ';', which would cut the query in two for tools that split SQL on ';'; rename it"
     if len(value) > MAX_LABEL_CHARS:
         return f"{what} is {len(value):,} characters long; the limit is {MAX_LABEL_CHARS}"
     bad = ex.invisible_characters(value)
@@ -98,7 +106,7 @@ def _toml_syntax_problem(err: tomllib.TOMLDecodeError, text: str) -> Problem:
     lines = text.splitlines()
     src = lines[line - 1] if line and line <= len(lines) else None
     msg = re.sub(r"\s*\(at line \d+, column \d+\)", "", str(err))
-    return Problem(f"TOML syntax error: {msg}", "", line, src)
+    return Problem(f"TOML syntax error: {msg}", "", line, src, int(m.group(2)) if m and src is not None else None)
 
 
 class _Checker:
@@ -172,7 +180,13 @@ class _Checker:
                         f"source: {text!r} looks like a path but is not a .parquet/.csv/.json file; "
                         f"give a table name, a file, or a parenthesised SELECT"
                     )
-                return Source("file", text, path=Path(resolved))
+                absolute = Path(os.path.abspath(resolved))
+                if ";" in str(absolute):
+                    raise ex.ExpressionProblem(
+                        f"source: the path {str(absolute)!r} contains ';', which would cut the query in two "
+                        f"for tools that split SQL on ';'; rename the file or its folder"
+                    )
+                return Source("file", text, path=absolute)
             return Source("table", text, table=ex.parse_table(stripped, "source"))
         except ex.ExpressionProblem as err:
             self.add(f"{path}.source", str(err))
@@ -347,13 +361,33 @@ class _Checker:
         return PrePeriod(src, unit, time, start.isoformat(), end.isoformat(), where)
 
 
+MAX_SPEC_BYTES = 1_000_000  # a spec is a few KB; anything near this is not a spec
+
+
 def load_spec(path: str | Path) -> Experiment:
-    """Read and check a spec file. Raises SpecError naming file, key path and line."""
+    """Read and check a spec file. Raises SpecError naming file, key path and line.
+
+    The spec must be a regular file of at most MAX_SPEC_BYTES: a pipe, a device or a
+    folder is refused before it is opened (reading one could wait or read forever).
+    """
     path = Path(path)
     try:
-        text = path.read_text(encoding="utf-8")
+        info = path.stat()
     except FileNotFoundError:
         raise SpecError([Problem(f"spec file not found: {path}")], str(path)) from None
+    except OSError as err:
+        raise SpecError([Problem(f"cannot read spec file: {err}")], str(path)) from None
+    if not stat.S_ISREG(info.st_mode):
+        kind = "a folder" if stat.S_ISDIR(info.st_mode) else "a pipe, socket or device"
+        raise SpecError([Problem(f"the spec must be a regular file; this is {kind}")], str(path))
+    if info.st_size > MAX_SPEC_BYTES:
+        raise SpecError([Problem(f"the spec file is {info.st_size:,} bytes; the limit is {MAX_SPEC_BYTES:,}")], str(path))
+    try:
+        with open(path, "rb") as fh:
+            raw = fh.read(MAX_SPEC_BYTES + 1)
+        if len(raw) > MAX_SPEC_BYTES:  # it grew after the check
+            raise SpecError([Problem(f"the spec file is over the limit of {MAX_SPEC_BYTES:,} bytes")], str(path))
+        text = raw.decode("utf-8")
     except (OSError, UnicodeDecodeError) as err:
         raise SpecError([Problem(f"cannot read spec file: {err}")], str(path)) from None
     return parse_spec(text, base_dir=path.parent, file=str(path))
@@ -373,7 +407,7 @@ def parse_spec(text: str, base_dir: str | Path = ".", file: str | None = None) -
     exp_t = c.table(doc, "experiment", required=True) or {}
     c.unknown_keys(exp_t, EXPERIMENT_KEYS, "experiment")
     name = c.string(exp_t, "name", "experiment")
-    if name is not None and (why := _label_problem(name, "the experiment name")):
+    if name is not None and (why := _label_problem(name, "the experiment name", in_sql=False)):
         c.add("experiment.name", why)
         name = None
     control = exp_t.get("control")
@@ -454,9 +488,22 @@ def parse_spec(text: str, base_dir: str | Path = ".", file: str | None = None) -
                     corrections[k] = v
     power = c.probability(exp_t, "power", "experiment", 0.8)
     always_valid = c.boolean(exp_t, "always_valid", "experiment")
-    mixing_sd = c.number(exp_t, "mixing_sd", "experiment", positive=True)
+    # The relative effect the always-valid test (mSPRT) detects fastest: its mixing standard
+    # deviation as a share of the control value, the method's published "mixing_sd".
+    spec_notes: list[str] = []
+    lift_key = "fastest_detected_lift"
+    mixing_sd = c.number(exp_t, lift_key, "experiment", positive=True)
+    if "mixing_sd" in exp_t:
+        if lift_key in exp_t:
+            c.add("experiment.mixing_sd", f"'mixing_sd' is the old name of {lift_key!r}; give only {lift_key!r}")
+        else:
+            lift_key = "mixing_sd"
+            mixing_sd = c.number(exp_t, "mixing_sd", "experiment", positive=True)
+            spec_notes.append("spec key experiment.mixing_sd is deprecated and will be dropped in the next release: "
+                              "write fastest_detected_lift (same meaning: the relative effect the always-valid test "
+                              "detects fastest)")
     if mixing_sd is not None and not always_valid:
-        c.add("experiment.mixing_sd", "'mixing_sd' tunes always-valid results; set always_valid = true too")
+        c.add(f"experiment.{lift_key}", f"{lift_key!r} tunes always-valid results; set always_valid = true too")
     daily = c.boolean(exp_t, "daily", "experiment")
 
     pre_t = c.table(doc, "pre_period", required=False)
@@ -529,6 +576,7 @@ def parse_spec(text: str, base_dir: str | Path = ".", file: str | None = None) -
         mixing_sd=mixing_sd if mixing_sd is not None else 0.05,
         daily=daily,
         spec_path=Path(file) if file else None,
+        notes=tuple(spec_notes),
     )
 
 
@@ -591,14 +639,16 @@ def _file_columns(path: Path) -> list[str]:
         return [row[0] for row in con.execute(f"DESCRIBE SELECT * FROM {reader}({literal})").fetchall()]
 
 
-def check_columns(experiment: Experiment, text: str | None = None) -> None:
+def check_columns(experiment: Experiment, text: str | None = None) -> list[str]:
     """Check every column the spec names against the columns of its file sources.
 
     Only file sources can be inspected without a database connection; table and query
     sources are left to the engine. Raises one SpecError listing every unknown column,
-    with the nearest existing name. Opt-in (``sqlstat check --columns``) and done by
-    ``sqlstat run`` on DuckDB, because it reads the files.
+    with the nearest existing name; otherwise returns one line per source saying what was
+    checked. Opt-in (``sqlstat check --columns``) and done by ``sqlstat run`` on DuckDB,
+    because it reads the files.
     """
+    checked: list[str] = []
     file = str(experiment.spec_path) if experiment.spec_path else None
     if text is None and experiment.spec_path is not None and experiment.spec_path.is_file():
         text = experiment.spec_path.read_text(encoding="utf-8")
@@ -639,13 +689,22 @@ def check_columns(experiment: Experiment, text: str | None = None) -> None:
             c.add(f"{path}.source", f"cannot read {rel.source.text!r}: {str(err).splitlines()[0]}")
             continue
         known = {col.lower() for col in columns}
+        seen: set[str] = set()
         for key, node in uses[path]:
             from sqlglot import exp
 
             cols = [node] if isinstance(node, exp.Column) else list(node.find_all(exp.Column))
             for col in cols:
+                seen.add(col.name.lower())
                 if col.name.lower() not in known:
                     c.add(key, f"column {col.name!r} is not in {rel.source.text!r}{_suggest(col.name, columns)} "
                                f"(columns: {', '.join(columns)})")
+        checked.append(f"{len(seen)} column(s) of [{path}] found in {rel.source.text!r} ({', '.join(sorted(seen))})")
     if c.problems:
         raise SpecError(c.problems, file)
+    skipped = [f"[{p}] ({rel.source.text.strip()!r})" for p, rel in sources
+               if rel is not None and rel.source.kind != "file" and uses[p]]
+    if skipped:
+        checked.append(f"not checked, left to the engine: {', '.join(skipped)} (tables and queries are "
+                       f"only known to the database)")
+    return checked

@@ -28,8 +28,14 @@ from .model import (
     TEST_TWO_PROPORTION_Z,
     TEST_WELCH_T,
     TEST_Z_KNOWN_SIGMA,
+    VERDICT_FAVOURABLE,
+    VERDICT_INVALID,
+    VERDICT_UNCLEAR,
+    VERDICT_UNFAVOURABLE,
+    VERDICTS,
     Experiment,
     Metric,
+    format_p,
 )
 
 Alternative = Literal["two-sided", "less", "greater"]
@@ -170,9 +176,6 @@ class Decision:
     reasons: tuple[str, ...]
 
 
-VERDICTS = ("adopt", "reject", "inconclusive", "invalid")
-
-
 @dataclass(frozen=True)
 class Analysis:
     """Everything the report shows: arms, the sample-ratio check and every comparison."""
@@ -189,6 +192,11 @@ class Analysis:
     decisions: tuple[Decision, ...] = ()
     corrections: dict[str, str] = field(default_factory=dict)
     data_problems: tuple[str, ...] = ()  # the notes that mean the data does not match the plan
+
+    @property
+    def verdicts(self) -> tuple[Decision, ...]:
+        """The verdict per treatment arm (the same objects as ``decisions``, the older name)."""
+        return self.decisions
 
     @property
     def overall(self) -> tuple[TestResult, ...]:
@@ -771,16 +779,17 @@ def decide(arms: list[str], results: list[TestResult], srm: SampleRatio | None) 
     """One verdict per treatment arm from the sample-ratio gate, the primary metric and guardrails.
 
     invalid: the sample-ratio check failed, so no comparison can be trusted.
-    reject: the primary metric got significantly worse, or a guardrail showed significant harm.
-    adopt: the primary metric improved significantly and every guardrail held its margin.
-    inconclusive: anything else (no detectable effect, or a guardrail not yet shown safe).
+    unfavourable: the primary metric got significantly worse, or a guardrail showed significant harm.
+    favourable: the primary metric improved significantly and every guardrail held its margin.
+    unclear: anything else (no detectable effect, or a guardrail not yet shown safe).
+    The words are model.VERDICTS; none of them is a test outcome, and none is the decision.
     """
     decisions = []
     for arm in arms:
         reasons: list[str] = []
         if srm is not None and srm.mismatch:
-            decisions.append(Decision(arm, "invalid", (
-                f"sample-ratio mismatch (p = {srm.p_value:.2g}): the split of units differs from the plan, "
+            decisions.append(Decision(arm, VERDICT_INVALID, (
+                f"sample-ratio mismatch (p = {format_p(srm.p_value)}): the split of units differs from the plan, "
                 "so assignment or logging is broken; find the cause before reading any result",)))
             continue
         mine = [r for r in results if r.arm == arm and r.segment is None]
@@ -788,19 +797,19 @@ def decide(arms: list[str], results: list[TestResult], srm: SampleRatio | None) 
         guards = [r for r in mine if r.guardrail is not None]
         harmed = [r for r in guards if r.guardrail.harm]
         unproven = [r for r in guards if not r.guardrail.held and not r.guardrail.harm]
-        verdict = "inconclusive"
+        verdict = VERDICT_UNCLEAR
         for r in harmed:
-            reasons.append(f"guardrail {r.metric} got significantly worse (estimate {r.estimate:+.4g}, p = {r.p_value:.2g})")
+            reasons.append(f"guardrail {r.metric} got significantly worse (estimate {r.estimate:+.4g}, p = {format_p(r.p_value)})")
         for r in unproven:
             reasons.append(
                 f"guardrail {r.metric} is not yet shown within its margin "
-                f"(one-sided p = {r.guardrail.p_value_adjusted:.2g})"
+                f"(one-sided p = {format_p(r.guardrail.p_value_adjusted)})"
             )
         for r in guards:
             if r.guardrail.held:
-                reasons.append(f"guardrail {r.metric} held (no worse than its margin, one-sided p = {r.guardrail.p_value_adjusted:.2g})")
+                reasons.append(f"guardrail {r.metric} held (no worse than its margin, one-sided p = {format_p(r.guardrail.p_value_adjusted)})")
         if harmed:
-            verdict = "reject"
+            verdict = VERDICT_UNFAVOURABLE
         for r in primary:
             p = r.p_value_adjusted
             if not _finite(p):
@@ -809,22 +818,22 @@ def decide(arms: list[str], results: list[TestResult], srm: SampleRatio | None) 
             better = r.better
             if not r.significant:
                 reasons.append(
-                    f"primary metric {r.metric}: no significant difference (p = {p:.2g}; interval "
+                    f"primary metric {r.metric}: no significant difference (p = {format_p(p)}; interval "
                     f"[{r.ci_low:.4g}, {r.ci_high:.4g}] still includes 0); check power before concluding there is no effect"
                 )
                 continue
             if better is None:
-                reasons.append(f"primary metric {r.metric} differs (p = {p:.2g}) but no 'better' direction is declared")
+                reasons.append(f"primary metric {r.metric} differs (p = {format_p(p)}) but no 'better' direction is declared")
                 continue
             improved = (r.estimate > 0) == (better == "higher")
             reasons.append(
                 f"primary metric {r.metric} {'improved' if improved else 'got worse'} significantly "
-                f"(estimate {r.estimate:+.4g}, p = {p:.2g})"
+                f"(estimate {r.estimate:+.4g}, p = {format_p(p)})"
             )
             if not improved:
-                verdict = "reject"
-            elif verdict != "reject" and not unproven:
-                verdict = "adopt"
+                verdict = VERDICT_UNFAVOURABLE
+            elif verdict != VERDICT_UNFAVOURABLE and not unproven:
+                verdict = VERDICT_FAVOURABLE
         if not primary:
             reasons.append("no primary metric: declare one with role = \"primary\" for a verdict")
         decisions.append(Decision(arm, verdict, tuple(reasons)))
@@ -834,9 +843,73 @@ def decide(arms: list[str], results: list[TestResult], srm: SampleRatio | None) 
 # --------------------------------------------------------------------------- the whole analysis
 
 
+# Columns of the query's rows that hold labels; every other column holds a number.
+TEXT_COLUMNS = frozenset({"metric", "kind", "role", "method", "segment", "segment_value", "arm", "direction"})
+# Columns without which the rows cannot be read as the query's output.
+REQUIRED_COLUMNS = ("metric_index", "arm", "units", "n", "mean")
+
+
+def _missing(value: Any) -> bool:
+    """None, NaN (pandas' missing value in float columns), pandas' NA/NaT, or '' (CSV)."""
+    if value is None or (isinstance(value, str) and value.strip() == ""):
+        return True
+    if isinstance(value, float):
+        return math.isnan(value)
+    try:
+        return bool(value != value)  # NaN-like scalars (numpy, pandas NA/NaT) are not equal to themselves
+    except (TypeError, ValueError):
+        return False
+
+
+def coerce_rows(rows: Iterable[dict]) -> list[dict]:
+    """Rows from anywhere (the engines, pandas records, csv.DictReader) -> the engines' form.
+
+    Column names in lower case; a missing value (None, NaN, pandas NA, an empty CSV field)
+    becomes None; labels become str; numbers (numpy scalars, Decimal, numeric strings from
+    CSV) become float. A value that is not a number in a numeric column is an error naming
+    the row and the column.
+    """
+    from .errors import UsageError
+
+    out: list[dict] = []
+    for i, row in enumerate(rows, 1):
+        if not hasattr(row, "items"):
+            raise UsageError(f"row {i} is a {type(row).__name__}, not a mapping of column names to values; "
+                             f"give rows as dicts, e.g. pandas' to_dict('records') or csv.DictReader")
+        clean: dict = {}
+        for key, value in row.items():
+            name = str(key).strip().lower()
+            if _missing(value):
+                clean[name] = None
+            elif name in TEXT_COLUMNS:
+                clean[name] = value if isinstance(value, str) else str(value.item() if hasattr(value, "item") else value)
+            elif isinstance(value, bool):
+                clean[name] = float(value)
+            else:
+                try:
+                    clean[name] = float(value.item() if hasattr(value, "item") else value)
+                except (TypeError, ValueError):
+                    raise UsageError(f"row {i}, column {name!r}: {str(value)[:40]!r} is not a number; the "
+                                     f"query returns numbers in every column but "
+                                     f"{', '.join(sorted(TEXT_COLUMNS))}") from None
+        out.append(clean)
+    absent = [c for c in REQUIRED_COLUMNS if not any(c in r for r in out)]
+    if out and absent:  # no rows at all: the source was empty, which the control check reports
+        raise UsageError(
+            f"the rows have no column {', '.join(repr(c) for c in absent)}: they do not look like the rows "
+            f"of sqlstat's query (columns found: {', '.join(sorted(out[0]))[:300]}); run the SQL of "
+            f"`sqlstat sql SPEC` and pass its rows unchanged"
+        )
+    return out
+
+
 def analyse(experiment: Experiment, rows: Iterable[dict]) -> Analysis:
-    """Rows returned by the compiled query -> the full Analysis."""
-    rows = list(rows)
+    """Rows returned by the compiled query -> the full Analysis.
+
+    Rows may come from anywhere (see coerce_rows): pandas records with NaN for NULL and
+    CSV rows of strings are read like the engines' own rows.
+    """
+    rows = coerce_rows(rows)
     notes: list[str] = []
     units: dict[str, int] = {}
     excluded = 0
@@ -874,11 +947,17 @@ def analyse(experiment: Experiment, rows: Iterable[dict]) -> Analysis:
         from .errors import DataProblem
         import difflib
 
-        hint = difflib.get_close_matches(experiment.control, list(units), n=1)
+        if any(r.get("arm") is not None and str(r["arm"]) == experiment.control for r in overall_rows):
+            raise DataProblem(
+                f"the control arm {experiment.control!r} is in the rows but with 0 units (column 'units' of its "
+                f"overall rows, those with an empty segment); nothing to compare with"
+            )
+        hint = difflib.get_close_matches(experiment.control, [a for a in units if a != experiment.control], n=1)
         extra = f"; did you mean {hint[0]!r}?" if hint else ""
         raise DataProblem(
             f"the control arm {experiment.control!r} has no units in the data{extra} "
-            f"(arms found: {', '.join(sorted(a for a, u in units.items() if u)) or 'none'})"
+            f"(arms found: {', '.join(sorted(a for a, u in units.items() if u)) or 'none'}, in "
+            f"{len(overall_rows)} overall row(s) of {len(rows)})"
         )
     srm_units = {a: units.get(a, 0) for a in (declared or units)}
     srm = sample_ratio_test(srm_units, experiment.weights, experiment.sample_ratio_alpha)
@@ -918,7 +997,7 @@ def analyse(experiment: Experiment, rows: Iterable[dict]) -> Analysis:
         excluded_units=excluded,
         sample_ratio=srm,
         results=tuple(results),
-        notes=tuple(problems + notes),
+        notes=tuple(problems + notes + list(experiment.notes)),
         data_problems=tuple(problems),
         targets=tuple(targets),
         decisions=tuple(decisions),

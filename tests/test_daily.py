@@ -667,7 +667,7 @@ def test_daily_readout_last_day_equals_the_readout_and_always_valid_is_a_running
     """With --readout, every day carries p-values and verdicts; the last day equals the
     main query's readout (same data, same formulas), and the always-valid p-value never
     rises from one day to the next (running minimum over looks, Johari et al. 2017)."""
-    experiment = daily_experiment(engine, extra="always_valid = true\nmixing_sd = 0.2")
+    experiment = daily_experiment(engine, extra="always_valid = true\nfastest_detected_lift = 0.2")
     daily = engine.run(compile_daily(experiment, engine.dialect, readout=True))
     main = engine.fetch(compile_sql(experiment, engine.dialect, readout=True))
     last = max(r["day"] for r in daily)

@@ -3,6 +3,8 @@
 from __future__ import annotations
 
 import sqlite3
+import subprocess
+import sys
 
 import duckdb
 import numpy as np
@@ -14,7 +16,7 @@ import sqlstat
 from sqlstat.cli import app
 from sqlstat.dialects import DIALECTS
 
-from .conftest import make_experiment, spec_text
+from .conftest import PROJECT, make_experiment, spec_text
 
 METRICS = ('name = "spend"\nkind = "mean"\nvalue = "sum(amount)"',
            'name = "conv"\nkind = "proportion"\nvalue = "count_if(converted) > 0"')
@@ -66,3 +68,40 @@ def test_folder_form_writes_one_file_per_dialect(tmp_path, write_spec):
     assert files == sorted(f"synthetic.{d}.sql" for d in DIALECTS)
     for d in DIALECTS:
         assert (out / f"synthetic.{d}.sql").read_text() == sqlstat.sql(path, d)
+
+
+def test_file_sources_give_the_same_sql_from_any_working_directory_and_a_portable_view(tmp_path):
+    # The spec's relative file sources are resolved against the spec's folder, and the SQL
+    # names them by absolute path: byte-identical text from two working directories.
+    import shutil
+
+    import duckdb
+
+    demo = tmp_path / "demo"
+    shutil.copytree(PROJECT / "sample_data", demo)
+    elsewhere = tmp_path / "elsewhere"
+    elsewhere.mkdir()
+    exe = [sys.executable, "-m", "sqlstat.cli"]
+    outputs = []
+    for cwd, spec in ((demo, "return_reminders.toml"), (elsewhere, "../demo/return_reminders.toml"),
+                      (tmp_path, str(demo / "return_reminders.toml"))):
+        done = subprocess.run([*exe, "sql", spec, "--as-view", "readout", "--readout"], cwd=cwd,
+                              capture_output=True, text=True, check=True)
+        outputs.append(done.stdout)
+    assert outputs[0] == outputs[1] == outputs[2]
+    assert f"'{(demo / 'loans.parquet').as_posix()}'" in outputs[0]
+    # The view is created from one folder and read from another.
+    db = tmp_path / "views.db"
+    (tmp_path / "view.sql").write_text(outputs[0])
+    code = f"import duckdb, pathlib; duckdb.connect({str(db)!r}).execute(pathlib.Path({str(tmp_path / 'view.sql')!r}).read_text())"
+    subprocess.run([sys.executable, "-c", code], cwd=demo, check=True)
+    with duckdb.connect(str(db), read_only=True) as con:
+        import os
+
+        here = os.getcwd()
+        os.chdir(elsewhere)
+        try:
+            rows = con.execute("SELECT COUNT(*) FROM readout").fetchone()[0]
+        finally:
+            os.chdir(here)
+    assert rows > 0

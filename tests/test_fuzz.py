@@ -207,7 +207,7 @@ def valid_documents(draw) -> dict:
     if draw(st.booleans()):
         doc["events"]["where"] = draw(st.sampled_from(["amount > 0", "amount BETWEEN 1 AND 2 OR NOT converted", "converted = TRUE"]))
     if draw(st.booleans()):
-        doc["experiment"]["control"] = draw(st.text(st.characters(exclude_categories=("Cc", "Cf", "Cs", "Co", "Cn", "Zl", "Zp")), min_size=1, max_size=10).filter(lambda s: s.strip()))
+        doc["experiment"]["control"] = draw(st.text(st.characters(exclude_categories=("Cc", "Cf", "Cs", "Co", "Cn", "Zl", "Zp")), min_size=1, max_size=10).filter(lambda s: s.strip() and ";" not in s))  # ';' is refused (script runners)
     if draw(st.booleans()):
         doc["assignment"]["unit"] = draw(st.sampled_from(['"Unit Id"', "user", "order", "unit"]))
     return doc

@@ -434,6 +434,10 @@ def test_hostile_file_names_are_read_as_data_on_duckdb(tmp_path, monkeypatch):
         pq.write_table(pa.table({"unit": units, "amount": [float(u % 7) for u in units]}), folder / "events.parquet")
         doc = base_document(fname, "events.parquet")
         doc["metric"] = doc["metric"][:1]
+        if ";" in fname:  # refused: ';' inside the query text would cut it for script runners
+            with pytest.raises(SpecError, match="contains ';'"):
+                parse_spec(toml_document(doc), base_dir=folder, file="hostile.toml")
+            continue
         e = parse_spec(toml_document(doc), base_dir=folder, file="hostile.toml")
         before = sorted(p.name for p in folder.iterdir())
         rows = duckdb_engine(connection=con).run(compile_sql(e, "duckdb"))

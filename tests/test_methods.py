@@ -229,8 +229,8 @@ def test_verdicts(tmp_path, write_spec):
         'better = "higher"\nrelative_margin = 0.1',
     ]
     analysis = sqlstat.run(write_spec(spec_text(*metrics)))
-    verdicts = {d.arm: d.verdict for d in analysis.decisions}
-    assert verdicts == {"better": "adopt", "worse": "reject"}
+    verdicts = {d.arm: d.verdict for d in analysis.verdicts}
+    assert verdicts == {"better": "favourable", "worse": "unfavourable"}
     # a broken split makes every verdict invalid
     make_experiment(tmp_path, units={"control": 2000, "better": 2600}, seed=4)
     analysis = sqlstat.run(write_spec(spec_text(*metrics), "srm.toml"))

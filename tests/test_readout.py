@@ -54,7 +54,7 @@ def readout_spec(engine_db):
     assignments, events = readout_data()
     a = engine_db.load("readout_assignments", assignments)
     e = engine_db.load("readout_events", events)
-    extra = 'segments = ["region"]\narms = ["control", "treatment", "variant_b"]\nalways_valid = true\nmixing_sd = 0.1'
+    extra = 'segments = ["region"]\narms = ["control", "treatment", "variant_b"]\nalways_valid = true\nfastest_detected_lift = 0.1'
     return sqlstat.parse_spec(spec_text(*METRICS, extra_experiment=extra, assignment_source=a, events_source=e))
 
 

@@ -75,7 +75,7 @@ def test_sql_always_valid_columns_match_python(tmp_path, write_spec):
                     spend_mean={"control": 20.0, "treatment": 21.0}, seed=12)
     spec = spec_text('name = "spend"\nkind = "mean"\nvalue = "sum(amount)"',
                      'name = "conv"\nkind = "proportion"\nvalue = "count_if(converted) > 0"',
-                     extra_experiment="always_valid = true\nmixing_sd = 0.1")
+                     extra_experiment="always_valid = true\nfastest_detected_lift = 0.1")
     path = write_spec(spec)
     import duckdb
 
