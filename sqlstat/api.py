@@ -56,7 +56,7 @@ def sql_folder(spec: str | Path | Experiment, folder: str | Path, *, view: str |
 
 
 def daily_sql(spec: str | Path | Experiment, dialect: str = "duckdb", *, pretty: bool = True,
-              readout: bool = False) -> str:
+              readout: bool = False, double_percent: bool = False) -> str:
     """The daily cumulative view: one SELECT giving the readout as of each day (needs daily = true).
 
     With ``readout``, each day's rows also carry p-values, intervals, adjustments and the
@@ -65,7 +65,7 @@ def daily_sql(spec: str | Path | Experiment, dialect: str = "duckdb", *, pretty:
     """
     from .compile import compile_daily
 
-    return compile_daily(_experiment(spec), dialect, pretty=pretty, readout=readout)
+    return compile_daily(_experiment(spec), dialect, pretty=pretty, readout=readout, double_percent=double_percent)
 
 
 def analyse(spec: str | Path | Experiment, rows: Iterable[dict[str, Any]]) -> "Analysis":

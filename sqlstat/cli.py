@@ -138,10 +138,7 @@ def sql(
                 typer.echo(f"skipped {name}: {why}", err=True)
             return
         if daily:
-            from .compile import doubled_percent
-
-            text = api.daily_sql(spec, dialect, readout=readout)
-            _emit(doubled_percent(text) if double_percent else text, output, "sql", force)
+            _emit(api.daily_sql(spec, dialect, readout=readout, double_percent=double_percent), output, "sql", force)
             return
         _emit(api.sql(spec, dialect, view=as_view, readout=readout, double_percent=double_percent), output, "sql", force)
     except Exception as err:  # noqa: BLE001

@@ -493,12 +493,15 @@ def render_daily(experiment: Experiment, dialect: str | Dialect = "duckdb", *, r
 
 
 def compile_daily(
-    experiment: Experiment, dialect: str | Dialect = "duckdb", *, pretty: bool = True, readout: bool = False
+    experiment: Experiment, dialect: str | Dialect = "duckdb", *, pretty: bool = True, readout: bool = False,
+    double_percent: bool = False,
 ) -> str:
     """Compile the daily cumulative view: one read-only SELECT in ``dialect``.
 
     One row per (day, metric, arm) for every day on which a unit entered or an event
     happened, holding the readout as of the end of that day (columns: DAILY_COLUMNS).
+    ``double_percent`` as for compile_sql.
     """
     d = dialect if isinstance(dialect, Dialect) else get_dialect(dialect)
-    return _finish(render_daily(experiment, d, readout=readout), d, pretty, experiment)
+    text = _finish(render_daily(experiment, d, readout=readout), d, pretty, experiment)
+    return doubled_percent(text) if double_percent else text

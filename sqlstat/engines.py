@@ -330,9 +330,12 @@ def _spark_from_url(url: str) -> Engine:
     return eng
 
 
+MEMORY_URLS = (None, "", "duckdb://", "duckdb:///:memory:")  # DuckDB in memory
+
+
 def url_dialect(url: str | None) -> str:
     """The dialect a database URL runs (DuckDB for None), without connecting."""
-    if url is None or url in ("", "duckdb://", "duckdb:///:memory:"):
+    if url in MEMORY_URLS:
         return "duckdb"
     scheme = url.split(":", 1)[0].lower().split("+")[0] if "://" in url else ""
     if scheme not in URL_SCHEMES:
@@ -351,7 +354,7 @@ def connect(url: str | None = None) -> Engine:
     messages.
     """
     dialect = url_dialect(url)
-    if url is None or url in ("", "duckdb://", "duckdb:///:memory:"):
+    if url in MEMORY_URLS:
         return duckdb_engine()
     masked = mask_secrets(url)
     if dialect == "spark":

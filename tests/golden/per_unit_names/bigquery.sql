@@ -450,14 +450,6 @@ WITH `unit_level` AS (
       ELSE `control_value_variance`
     END AS `lift_control_variance`,
     CASE
-      WHEN `method` = 'two_proportion_z'
-      THEN `control_mean` * (
-        1 - `control_mean`
-      ) * `inv_control_n`
-      WHEN `method` = 'z_known_sigma'
-      THEN `sigma` * `sigma` * `inv_control_n`
-      WHEN `method` = 'student_t'
-      THEN `pooled_variance` * `inv_control_n`
       WHEN `method` = 'cuped_welch_t'
       THEN (
         `control_variance` - (
@@ -466,8 +458,7 @@ WITH `unit_level` AS (
           ) * `control_n` / NULLIF(`n` + `control_n`, 0)
         ) * `control_xy_covariance`
       ) * `inv_control_n`
-      ELSE `control_value_variance`
-    END AS `lift_control_covariance`
+    END AS `cuped_control_covariance`
   FROM `compared`
 ), `lifted` AS (
   SELECT
@@ -475,9 +466,17 @@ WITH `unit_level` AS (
     `estimate` / NULLIF(`control_value`, 0) AS `relative_lift`,
     SQRT(
       CASE
-        WHEN `std_error` * `std_error` / NULLIF(`control_value` * `control_value`, 0) + `estimate` * `estimate` * `lift_control_variance` / NULLIF(`control_value` * `control_value` * `control_value` * `control_value`, 0) + 2 * `estimate` * `lift_control_covariance` / NULLIF(`control_value` * `control_value` * `control_value`, 0) < 0
+        WHEN `std_error` * `std_error` / NULLIF(`control_value` * `control_value`, 0) + `estimate` * `estimate` * `lift_control_variance` / NULLIF(`control_value` * `control_value` * `control_value` * `control_value`, 0) + 2 * `estimate` * CASE
+          WHEN `method` = 'cuped_welch_t'
+          THEN `cuped_control_covariance`
+          ELSE `lift_control_variance`
+        END / NULLIF(`control_value` * `control_value` * `control_value`, 0) < 0
         THEN NULL
-        ELSE `std_error` * `std_error` / NULLIF(`control_value` * `control_value`, 0) + `estimate` * `estimate` * `lift_control_variance` / NULLIF(`control_value` * `control_value` * `control_value` * `control_value`, 0) + 2 * `estimate` * `lift_control_covariance` / NULLIF(`control_value` * `control_value` * `control_value`, 0)
+        ELSE `std_error` * `std_error` / NULLIF(`control_value` * `control_value`, 0) + `estimate` * `estimate` * `lift_control_variance` / NULLIF(`control_value` * `control_value` * `control_value` * `control_value`, 0) + 2 * `estimate` * CASE
+          WHEN `method` = 'cuped_welch_t'
+          THEN `cuped_control_covariance`
+          ELSE `lift_control_variance`
+        END / NULLIF(`control_value` * `control_value` * `control_value`, 0)
       END
     ) AS `lift_std_error`
   FROM `lift_terms`

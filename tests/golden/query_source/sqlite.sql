@@ -447,14 +447,6 @@ WITH `assigned_units` AS (
       ELSE `control_value_variance`
     END AS `lift_control_variance`,
     CASE
-      WHEN `method` = 'two_proportion_z'
-      THEN `control_mean` * (
-        1 - `control_mean`
-      ) * `inv_control_n`
-      WHEN `method` = 'z_known_sigma'
-      THEN `sigma` * `sigma` * `inv_control_n`
-      WHEN `method` = 'student_t'
-      THEN `pooled_variance` * `inv_control_n`
       WHEN `method` = 'cuped_welch_t'
       THEN (
         `control_variance` - (
@@ -463,8 +455,7 @@ WITH `assigned_units` AS (
           ) * `control_n` AS REAL) / NULLIF(`n` + `control_n`, 0)
         ) * `control_xy_covariance`
       ) * `inv_control_n`
-      ELSE `control_value_variance`
-    END AS `lift_control_covariance`
+    END AS `cuped_control_covariance`
   FROM `compared`
 ), `lifted` AS (
   SELECT
@@ -472,9 +463,17 @@ WITH `assigned_units` AS (
     CAST(`estimate` AS REAL) / NULLIF(`control_value`, 0) AS `relative_lift`,
     SQRT(
       CASE
-        WHEN CAST(`std_error` * `std_error` AS REAL) / NULLIF(`control_value` * `control_value`, 0) + CAST(`estimate` * `estimate` * `lift_control_variance` AS REAL) / NULLIF(`control_value` * `control_value` * `control_value` * `control_value`, 0) + CAST(2 * `estimate` * `lift_control_covariance` AS REAL) / NULLIF(`control_value` * `control_value` * `control_value`, 0) < 0
+        WHEN CAST(`std_error` * `std_error` AS REAL) / NULLIF(`control_value` * `control_value`, 0) + CAST(`estimate` * `estimate` * `lift_control_variance` AS REAL) / NULLIF(`control_value` * `control_value` * `control_value` * `control_value`, 0) + CAST(2 * `estimate` * CASE
+          WHEN `method` = 'cuped_welch_t'
+          THEN `cuped_control_covariance`
+          ELSE `lift_control_variance`
+        END AS REAL) / NULLIF(`control_value` * `control_value` * `control_value`, 0) < 0
         THEN NULL
-        ELSE CAST(`std_error` * `std_error` AS REAL) / NULLIF(`control_value` * `control_value`, 0) + CAST(`estimate` * `estimate` * `lift_control_variance` AS REAL) / NULLIF(`control_value` * `control_value` * `control_value` * `control_value`, 0) + CAST(2 * `estimate` * `lift_control_covariance` AS REAL) / NULLIF(`control_value` * `control_value` * `control_value`, 0)
+        ELSE CAST(`std_error` * `std_error` AS REAL) / NULLIF(`control_value` * `control_value`, 0) + CAST(`estimate` * `estimate` * `lift_control_variance` AS REAL) / NULLIF(`control_value` * `control_value` * `control_value` * `control_value`, 0) + CAST(2 * `estimate` * CASE
+          WHEN `method` = 'cuped_welch_t'
+          THEN `cuped_control_covariance`
+          ELSE `lift_control_variance`
+        END AS REAL) / NULLIF(`control_value` * `control_value` * `control_value`, 0)
       END
     ) AS `lift_std_error`
   FROM `lift_terms`
