@@ -200,8 +200,10 @@ def duckdb_engine(path: str | None = None, connection: Any = None) -> Engine:
         con.execute("SET enable_progress_bar_print = false")
 
     def progress() -> float | None:
+        # -1 when DuckDB has no estimate for the running plan; a 0 that never moves (plans
+        # whose first pipeline it cannot measure) says nothing either.
         value = con.query_progress()
-        return value if value >= 0 else None
+        return value if value > 0 else None
 
     return Engine("duckdb", run, path or "in memory", con.close if owned else None, cancel=con.interrupt,
                   progress=progress if owned else None)
