@@ -70,10 +70,15 @@ def daily_sql(spec: str | Path | Experiment, dialect: str = "duckdb", *, pretty:
 
 
 def analyse(spec: str | Path | Experiment, rows: Iterable[dict[str, Any]]) -> "Analysis":
-    """Turn rows that the compiled query returned (from anywhere) into an Analysis."""
+    """Turn rows that the compiled query returned (from anywhere) into an Analysis.
+
+    The Analysis has ``to_frame()`` (a pandas DataFrame, one row per comparison; needs the
+    ``notebook`` extra) and shows itself as an HTML table in Jupyter.
+    """
+    from .report_frame import notebook_view
     from .stats import analyse as _analyse
 
-    return _analyse(_experiment(spec), rows)
+    return notebook_view(_analyse(_experiment(spec), rows))
 
 
 def run(

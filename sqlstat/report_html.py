@@ -68,6 +68,20 @@ def _cell(field: str, x: Any, shown: str | None = None) -> str:
 
 # --- charts ----------------------------------------------------------------------------
 
+MATPLOTLIB_MISSING = ("--format html draws its charts with matplotlib, which is not installed: "
+                      "pip install 'sqlstat[html]'")
+
+
+def _figure():
+    try:
+        from matplotlib.figure import Figure
+    except ImportError:
+        from .errors import UsageError
+
+        raise UsageError(MATPLOTLIB_MISSING) from None
+    return Figure
+
+
 def _svg(fig: Any, salt: str, title: str, desc: str, ident: str) -> str:
     """A matplotlib figure as inline SVG with a title and description (its text alternative)."""
     import matplotlib
@@ -110,7 +124,7 @@ def _margin_line(r: dict) -> tuple[str, float] | None:
 def forest_svg(rows: list[dict], *, title: str, conf: str, arms: list[str], salt: str, ident: str,
                label=lambda r: r["arm"]) -> str:
     """Each row's estimate and interval on the absolute scale (left) and as relative lift (right)."""
-    from matplotlib.figure import Figure
+    Figure = _figure()
     from matplotlib.lines import Line2D
 
     height = 1.1 + 0.45 * len(rows)
@@ -171,9 +185,7 @@ def daily_svg(rows: list[dict], *, metric: str, conf: str, arms: list[str], salt
               always_valid: bool) -> str:
     """The cumulative estimate per treatment arm by day, with its fixed-horizon interval
     (shaded) and, with always_valid, the always-valid confidence sequence (dotted)."""
-    from matplotlib.figure import Figure
-
-    fig = Figure(figsize=(9.5, 3.6))
+    fig = _figure()(figsize=(9.5, 3.6))
     ax = fig.subplots()
     by_arm: dict[str, list[dict]] = {}
     for r in rows:
