@@ -160,7 +160,8 @@ def forest_svg(rows: list[dict], *, title: str, conf: str, arms: list[str], salt
         ax.grid(axis="x", color="#dddddd", linewidth=0.6)
         ax.set_axisbelow(True)
         ax.set_ylim(-0.7, len(rows) - 0.3)
-    ax_rel.xaxis.set_major_formatter(lambda v, _pos: f"{v:+.0%}" if abs(v) >= 0.01 or v == 0 else f"{v:+.1%}")
+    ax_rel.xaxis.set_major_formatter(
+        lambda v, _pos: "0%" if abs(v) < 1e-12 else (f"{v:+.0%}" if abs(v) >= 0.01 else f"{v:+.1%}"))
     ax_abs.set_yticks(ys, [f"{label(r)}{' *' if r['significant'] else ''}" for r in rows])
     handles = [Line2D([], [], marker="D", color="#333333", markerfacecolor="#333333", linestyle="none",
                       label="* significant (adjusted p < alpha)"),
@@ -307,7 +308,7 @@ def _verdicts(payload: dict) -> str:
         + "<p>A verdict summarises the evidence as input to a decision; it is not a test outcome and not the "
           "decision itself.</p>"
         + f"<ul>{''.join(items)}</ul>"
-        + f'<div class="caution"><strong>How to read this</strong><ul>{caution}</ul></div></section>'
+        + f'<div class="caution"><strong>Cautions</strong><ul>{caution}</ul></div></section>'
     )
 
 

@@ -86,5 +86,5 @@ def to_markdown(payload: dict, *, query: dict | None = None) -> str:
     out += ["", "Multiple comparisons:", ""] + [f"- {line}" for line in family_lines(payload)]
     if query:
         out += ["", f"SQL fingerprint `{query['fingerprint']}` ({query['dialect']})."]
-    out += ["", "## How to read this", ""] + [f"- {c}" for c in cautions(payload)]
+    out += ["", "## Cautions", ""] + [f"- {c}" for c in cautions(payload)]
     return "\n".join(out) + "\n"
