@@ -16,6 +16,7 @@ from .spec import load_spec
 
 if TYPE_CHECKING:  # pragma: no cover
     from .engines import Engine
+    from .progress import Tick
     from .stats import Analysis
 
 
@@ -69,10 +70,15 @@ def daily_sql(spec: str | Path | Experiment, dialect: str = "duckdb", *, pretty:
 
 
 def analyse(spec: str | Path | Experiment, rows: Iterable[dict[str, Any]]) -> "Analysis":
-    """Turn rows that the compiled query returned (from anywhere) into an Analysis."""
+    """Turn rows that the compiled query returned (from anywhere) into an Analysis.
+
+    The Analysis has ``to_frame()`` (a pandas DataFrame, one row per comparison; needs the
+    ``notebook`` extra) and shows itself as an HTML table in Jupyter.
+    """
+    from .report_frame import notebook_view
     from .stats import analyse as _analyse
 
-    return _analyse(_experiment(spec), rows)
+    return notebook_view(_analyse(_experiment(spec), rows))
 
 
 def run(
@@ -82,6 +88,7 @@ def run(
     connection: Any = None,
     dialect: str | None = None,
     engine: "Engine | None" = None,
+    on_progress: "Tick | None" = None,
 ) -> "Analysis":
     """Compile, execute and analyse in one call.
 
@@ -93,8 +100,38 @@ def run(
             a DuckDB connection, a pyspark SparkSession or a chdb connection.
         dialect: the SQL dialect of ``connection`` (inferred for DuckDB, Spark and chdb).
         engine: an Engine from sqlstat.engines, for full control.
+        on_progress: called about every 0.1 s while the query runs with (engine, elapsed
+            seconds, the engine's own progress 0-100 or None); see sqlstat.progress.
+
+    Ctrl-C while the query runs cancels it on the engine where the driver allows it and
+    raises sqlstat.errors.Interrupted.
+    """
+    return run_with_context(spec, db=db, connection=connection, dialect=dialect, engine=engine,
+                            on_progress=on_progress)[0]
+
+
+def run_with_context(
+    spec: str | Path | Experiment,
+    *,
+    db: str | None = None,
+    connection: Any = None,
+    dialect: str | None = None,
+    engine: "Engine | None" = None,
+    on_progress: "Tick | None" = None,
+    daily: bool = False,
+) -> "tuple[Analysis, dict[str, Any]]":
+    """As ``run``, plus what a full report shows beside the results: ``{"query": {"sql",
+    "dialect", "fingerprint"}, "engine": description, "daily": None or {"rows": [...],
+    "always_valid": bool}}``.
+
+    With ``daily`` and a spec with ``daily = true``, the daily view's readout query runs on
+    the same engine right after the main query; its treatment rows (day, metric, arm,
+    estimate, ci_low, ci_high, sequence_low, sequence_high) are the chart's data, computed
+    in the engine like everything else.
     """
     from . import engines
+    from .progress import label, run_watched
+    from .report_common import sql_fingerprint
 
     experiment = _experiment(spec)
     owned = False
@@ -107,12 +144,33 @@ def run(
             # refused before a server is contacted or a JVM started.
             query = compile_sql(experiment, engines.url_dialect(db))
             engine, owned = engines.connect(db), True
+    daily_rows = None
     try:
-        rows = engine.run(query or compile_sql(experiment, engine.dialect), experiment)
+        query = query or compile_sql(experiment, engine.dialect)
+        rows = run_watched(engine, query, experiment, on_progress)
+        if daily and experiment.daily:
+            from .compile import compile_daily
+
+            got = run_watched(engine, compile_daily(experiment, engine.dialect, readout=True), experiment, on_progress)
+            daily_rows = [_daily_point(r) for r in got if r.get("arm") != experiment.control]
     finally:
         if owned:
             engine.close()
-    return analyse(experiment, rows)
+    context = {
+        "query": {"sql": query, "dialect": engine.dialect, "fingerprint": sql_fingerprint(query)},
+        "engine": label(engine),
+        "daily": None if daily_rows is None else {"rows": daily_rows, "always_valid": experiment.always_valid},
+    }
+    return analyse(experiment, rows), context
+
+
+_DAILY_FIELDS = ("metric", "arm", "estimate", "ci_low", "ci_high", "sequence_low", "sequence_high")
+
+
+def _daily_point(row: dict[str, Any]) -> dict[str, Any]:
+    day = row["day"]
+    return {"day": day.isoformat() if hasattr(day, "isoformat") else str(day)[:10],
+            **{k: row.get(k) for k in _DAILY_FIELDS}}
 
 
 def baseline_sql(spec: str | Path | Experiment, dialect: str = "duckdb", *, pretty: bool = True) -> str:
@@ -131,6 +189,7 @@ def plan(
     power: float | None = None,
     db: str | None = None,
     engine: "Engine | None" = None,
+    on_progress: "Tick | None" = None,
 ):
     """Read each metric's baseline from the pre-period and size the experiment.
 
@@ -141,6 +200,7 @@ def plan(
     from .compile import compile_baseline
     from .errors import UsageError
     from .power import plan as _plan
+    from .progress import run_watched
 
     if (mde is None) == (units is None):
         raise UsageError("give exactly one of --mde (effect to detect) or --units (units per arm available)")
@@ -152,7 +212,7 @@ def plan(
     owned = engine is None
     engine = engine or engines.connect(db)
     try:
-        rows = engine.run(compile_baseline(experiment, engine.dialect))
+        rows = run_watched(engine, compile_baseline(experiment, engine.dialect), None, on_progress)
     finally:
         if owned:
             engine.close()

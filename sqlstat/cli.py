@@ -2,7 +2,8 @@
 
 Exit codes: 0 success, 1 the analysis ran but found a data problem (sample-ratio
 mismatch, a comparison the data cannot support), 2 usage or spec error, 3 engine or
-connection error. --debug shows the traceback instead.
+connection error, 130 interrupted (Ctrl-C: the query is cancelled on the engine where the
+driver allows it and no output file is written). --debug shows the traceback instead.
 """
 
 from __future__ import annotations
@@ -30,6 +31,8 @@ class Format(str, Enum):
     table = "table"
     json = "json"
     csv = "csv"
+    html = "html"
+    markdown = "markdown"
 
 
 SPEC = typer.Argument(..., help="The experiment spec (TOML).", show_default=False)
@@ -51,9 +54,22 @@ def _main(
     """Experiment metrics -> one read-only SQL query -> tested statistics."""
 DEBUG = typer.Option(False, "--debug", help="Show the full traceback on errors.")
 FORCE = typer.Option(False, "--force", help="Replace an existing output file that sqlstat did not write.")
+QUIET = typer.Option(False, "--quiet", "-q", help="No progress line while the query runs.")
 
 
-def _fail(err: Exception, debug: bool) -> None:
+def _progress_line(quiet: bool):
+    """The live progress line on stderr, when stderr is a terminal and not --quiet."""
+    if quiet or not sys.stderr.isatty():
+        return None
+    from .progress import ProgressLine
+
+    return ProgressLine(sys.stderr)
+
+
+def _fail(err: BaseException, debug: bool) -> None:
+    if isinstance(err, KeyboardInterrupt):  # outside a query (compiling, rendering): nothing written
+        typer.echo("Error: interrupted; nothing was written", err=True)
+        raise typer.Exit(130)
     if debug:
         raise err
     if isinstance(err, SqlstatError):
@@ -79,12 +95,15 @@ def run(
         None, "--db", help="Database URL: duckdb:///file.db, postgresql://..., mysql://..., sqlite:///file.db, "
         "spark://local[2], chdb:///folder. Default: DuckDB in memory (reads .parquet/.csv sources).",
     ),
-    fmt: Format = typer.Option(Format.table, "--format", "-f", help="table, json or csv (one row per metric and arm)."),
+    fmt: Format = typer.Option(Format.table, "--format", "-f", help="table, json, csv (one row per metric and arm), "
+                               "html (one self-contained file with charts) or markdown (for pull requests and chat)."),
     output: Optional[Path] = typer.Option(None, "--output", "-o", help="Write to this file (atomically) instead of stdout."),
     force: bool = FORCE,
+    quiet: bool = QUIET,
     debug: bool = DEBUG,
 ) -> None:
     """Compile the spec, run the query on the engine and print the readout."""
+    line = _progress_line(quiet)
     try:
         from . import api
         from .report import render
@@ -93,9 +112,13 @@ def run(
         experiment = load_spec(spec)
         if db is None or db.lower().startswith("duckdb"):
             check_columns(experiment)  # misspelt columns of file sources: a spec error, not an engine one
-        analysis = api.run(experiment, db=db)
-        _emit(render(analysis, fmt.value), output, fmt.value, force)
-    except Exception as err:  # noqa: BLE001 - mapped to exit codes in _fail
+        analysis, context = api.run_with_context(experiment, db=db, on_progress=line, daily=fmt is Format.html)
+        if line:
+            line.clear()
+        _emit(render(analysis, fmt.value, context), output, fmt.value, force)
+    except (Exception, KeyboardInterrupt) as err:  # noqa: BLE001 - mapped to exit codes in _fail
+        if line:
+            line.clear()
         _fail(err, debug)
         return
     if analysis.data_problem:
@@ -176,20 +199,26 @@ def plan(
     power: Optional[float] = typer.Option(None, "--power", help="Chance of detecting the effect if it is real (default: the spec's, 0.8)."),
     db: Optional[str] = typer.Option(None, "--db", help="Database URL (as for `run`)."),
     fmt: Format = typer.Option(Format.table, "--format", "-f", help="table or json."),
+    quiet: bool = QUIET,
     debug: bool = DEBUG,
 ) -> None:
     """Size an experiment before launch from each metric's pre-period baseline."""
+    line = _progress_line(quiet)
     try:
         from . import api
         from .report import plan_report
 
-        if fmt.value == "csv":
+        if fmt.value not in ("table", "json"):
             from .errors import UsageError
 
             raise UsageError("plan prints a table or JSON: use --format table or --format json")
-        result = api.plan(spec, mde=mde, relative=relative, units=units, power=power, db=db)
+        result = api.plan(spec, mde=mde, relative=relative, units=units, power=power, db=db, on_progress=line)
+        if line:
+            line.clear()
         sys.stdout.write(plan_report(result, "json" if fmt.value == "json" else "table"))
-    except Exception as err:  # noqa: BLE001
+    except (Exception, KeyboardInterrupt) as err:  # noqa: BLE001
+        if line:
+            line.clear()
         _fail(err, debug)
 
 

@@ -79,6 +79,11 @@ class Engine:
     description: str
     closer: Callable[[], None] | None = None
     secrets: tuple[str, ...] = ()  # literal strings never to show (the URL's password)
+    # Stops the running query from another thread (DuckDB's interrupt, PostgreSQL's cancel);
+    # None where the driver offers no such call (sqlstat.progress then runs the query as before).
+    cancel: Callable[[], None] | None = None
+    # The engine's own progress of the running query, 0-100, or None when it has none to tell.
+    progress: Callable[[], float | None] | None = None
     _closed: bool = field(default=False, repr=False)
 
     def run(self, sql: str, experiment: "Experiment | None" = None) -> list[Row]:
@@ -190,7 +195,18 @@ def duckdb_engine(path: str | None = None, connection: Any = None) -> Engine:
             raise QueryFailed(_engine_message(err)) from err
         return normalise_rows(columns, rows)
 
-    return Engine("duckdb", run, path or "in memory", con.close if owned else None)
+    if owned:  # DuckDB tracks a query's progress only with its progress bar on (printing stays off)
+        con.execute("SET enable_progress_bar = true")
+        con.execute("SET enable_progress_bar_print = false")
+
+    def progress() -> float | None:
+        # -1 when DuckDB has no estimate for the running plan; a 0 that never moves (plans
+        # whose first pipeline it cannot measure) says nothing either.
+        value = con.query_progress()
+        return value if value > 0 else None
+
+    return Engine("duckdb", run, path or "in memory", con.close if owned else None, cancel=con.interrupt,
+                  progress=progress if owned else None)
 
 
 # The self-contained readout (--readout) is a long chain of CTEs; Spark's analyzer stops
@@ -486,6 +502,8 @@ def _server(dialect: str, parts, masked: str) -> Engine:
     eng = dbapi_engine(con, dialect, masked, owned=True)
     eng.closer = con.close
     eng.secrets = (password,) if password else ()
+    if dialect == "postgres":  # psycopg sends the server a cancel request from any thread
+        eng.cancel = getattr(con, "cancel_safe", con.cancel)
     return eng
 
 

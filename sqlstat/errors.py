@@ -2,7 +2,8 @@
 
 Each class carries the exit code the CLI uses for it (documented in the README):
 0 success, 1 the analysis ran but found a data problem, 2 usage or spec error,
-3 engine or connection error.
+3 engine or connection error, 130 interrupted (Ctrl-C; the query was cancelled on the engine
+where its driver allows it, and no output file was written).
 """
 
 from __future__ import annotations
@@ -134,3 +135,10 @@ class DataProblem(SqlstatError):
     """The query ran, but the data cannot support the analysis asked for."""
 
     exit_code = 1
+
+
+class Interrupted(SqlstatError):
+    """The user interrupted a running query (Ctrl-C); it was cancelled on the engine where the
+    driver allows it. Exit code 130, the shell's code for a process ended by SIGINT."""
+
+    exit_code = 130

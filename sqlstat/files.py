@@ -24,6 +24,9 @@ SIGNATURES: dict[str, re.Pattern[str]] = {
     "json": re.compile(r'\{\s*"experiment"\s*:'),  # to_json's first key
     "csv": re.compile(r"experiment,metric,"),  # to_csv's header
     "table": re.compile(r"Experiment: "),  # to_text's first line
+    "html": re.compile(r'<!DOCTYPE html>\s*<html lang="en"><head><meta charset="utf-8"><meta name="generator" '
+                       r'content="sqlstat '),  # report_html.to_html's first bytes
+    "markdown": re.compile(r"<!-- sqlstat markdown report -->"),  # report_markdown.to_markdown's first line
 }
 HEAD_BYTES = 4096  # how much of an existing file is read to recognise it
 

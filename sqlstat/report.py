@@ -319,7 +319,17 @@ def to_text(a: "Analysis") -> str:
     return "\n".join(out) + "\n"
 
 
-def render(a: Analysis, fmt: str) -> str:
+def render(a: Analysis, fmt: str, context: dict | None = None) -> str:
+    """``a`` in ``fmt``; html and markdown are built from the JSON payload (report_html,
+    report_markdown), with ``context`` from api.run_with_context (the query, the daily view)."""
+    if fmt == "html":
+        from .report_html import to_html
+
+        return to_html(to_dict(a), **(context or {}))
+    if fmt == "markdown":
+        from .report_markdown import to_markdown
+
+        return to_markdown(to_dict(a), query=(context or {}).get("query"))
     if fmt == "json":
         return to_json(a)
     if fmt == "csv":

@@ -70,3 +70,7 @@ def test_run_imports_scipy_special_but_not_its_heavier_subpackages(tmp_path):
     assert "duckdb" in modules and _loaded(modules, "scipy.special")  # the run did happen, on DuckDB
     heavy = [m for p in HEAVY_SCIPY for m in _loaded(modules, p)]
     assert not heavy, heavy
+    # the HTML report's plotting library and pandas are loaded only when asked for
+    assert not _loaded(modules, "matplotlib") and not _loaded(modules, "pandas"), _loaded(modules, "matplotlib")
+    html = imported_modules("run", str(spec), "--format", "html", "-o", str(tmp_path / "r.html"), cwd=tmp_path)
+    assert _loaded(html, "matplotlib") and (tmp_path / "r.html").exists()
