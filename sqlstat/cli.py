@@ -88,12 +88,7 @@ def run(
     try:
         from . import api
         from .report import render
-        from .spec import check_columns, load_spec
-
-        experiment = load_spec(spec)
-        if db is None or db.lower().startswith("duckdb"):
-            check_columns(experiment)  # misspelt columns of file sources: a spec error, not an engine one
-        analysis = api.run(experiment, db=db)
+        analysis = api.run(spec, db=db)
         _emit(render(analysis, fmt.value), output, fmt.value, force)
     except Exception as err:  # noqa: BLE001 - mapped to exit codes in _fail
         _fail(err, debug)
@@ -156,7 +151,8 @@ def check(
     """Validate the spec and print the plan: the test each metric will get and why."""
     try:
         from .report import plan_text
-        from .spec import check_columns, load_spec
+        from .columns import check_columns
+        from .spec import load_spec
 
         experiment = load_spec(spec)
         checked = check_columns(experiment) if columns else []
