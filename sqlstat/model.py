@@ -50,19 +50,11 @@ CORRECTIONS: tuple[str, ...] = ("none", "holm", "bh")
 # are read one by one, secondary metrics and segment rows are many looks at once.
 DEFAULT_CORRECTIONS: dict[str, str] = {"primary": "none", "secondary": "bh", "guardrail": "none", "segment": "bh"}
 
-# Test ids, as they appear in every output. The parametric ones are computed in SQL;
-# fisher_exact is chosen in Python from the returned counts when they are too small.
-TEST_TWO_PROPORTION_Z = "two_proportion_z"
-TEST_FISHER_EXACT = "fisher_exact"
-TEST_Z_KNOWN_SIGMA = "z_known_sigma"
-TEST_WELCH_T = "welch_t"
-TEST_STUDENT_T = "student_t"
-TEST_RATIO_DELTA_Z = "ratio_delta_z"  # ratio of per-unit sums, delta-method standard error
-TEST_CUPED_WELCH_T = "cuped_welch_t"  # covariate-adjusted (CUPED) difference, Welch df
-# One-arm checks against a fixed target
-TEST_BINOMIAL_EXACT = "binomial_exact"
-TEST_ONE_SAMPLE_Z = "one_sample_z"
-TEST_ONE_SAMPLE_T = "one_sample_t"
+# Test ids live in the method registry (methods.py); re-exported here for older imports.
+from .methods import (  # noqa: E402,F401
+    TEST_BINOMIAL_EXACT, TEST_CUPED_WELCH_T, TEST_FISHER_EXACT, TEST_ONE_SAMPLE_T, TEST_ONE_SAMPLE_Z,
+    TEST_RATIO_DELTA_Z, TEST_STUDENT_T, TEST_TWO_PROPORTION_Z, TEST_WELCH_T, TEST_Z_KNOWN_SIGMA, planned,
+)
 
 
 @dataclass(frozen=True, eq=False)
@@ -129,16 +121,8 @@ class Metric:
 
     @property
     def planned_test(self) -> str:
-        """The test the SQL computes a statistic for (proportions may fall back to Fisher)."""
-        if self.kind == "ratio":
-            return TEST_RATIO_DELTA_Z
-        if self.covariate is not None:
-            return TEST_CUPED_WELCH_T
-        if self.kind == "proportion":
-            return TEST_TWO_PROPORTION_Z
-        if self.sigma is not None:
-            return TEST_Z_KNOWN_SIGMA
-        return TEST_STUDENT_T if self.equal_variance else TEST_WELCH_T
+        """The test the SQL computes a statistic for (methods.planned; the data may force its fallback)."""
+        return planned(self).id
 
 
 @dataclass(frozen=True, eq=False)
