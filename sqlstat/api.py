@@ -136,14 +136,16 @@ def run_with_context(
     experiment = _experiment(spec)
     owned = False
     query = None
-    if engine is None:
-        if connection is not None:
-            engine = engines.engine_for(connection, dialect)
-        else:
-            # Compile first: a spec the URL's engine cannot run (file sources on Spark) is
-            # refused before a server is contacted or a JVM started.
-            query = compile_sql(experiment, engines.url_dialect(db))
-            engine, owned = engines.connect(db), True
+    if engine is None and connection is None:
+        # Compile first: a spec the URL's engine cannot run (file sources on Spark) is
+        # refused before a server is contacted or a JVM started.
+        query = compile_sql(experiment, engines.url_dialect(db))
+        _check_file_columns(experiment, engines.url_dialect(db))
+        engine, owned = engines.connect(db), True
+    elif engine is None:
+        engine = engines.engine_for(connection, dialect)
+    if query is None:
+        _check_file_columns(experiment, engine.dialect)
     daily_rows = None
     try:
         query = query or compile_sql(experiment, engine.dialect)
@@ -171,6 +173,16 @@ def _daily_point(row: dict[str, Any]) -> dict[str, Any]:
     day = row["day"]
     return {"day": day.isoformat() if hasattr(day, "isoformat") else str(day)[:10],
             **{k: row.get(k) for k in _DAILY_FIELDS}}
+
+
+def _check_file_columns(experiment: Experiment, dialect: str) -> None:
+    """On DuckDB (which reads the spec's files), a misspelt column of a file source is a
+    SpecError naming the key and the nearest column, not an engine error."""
+    if dialect == "duckdb" and any(rel is not None and rel.source.kind == "file" for rel in
+                                   (experiment.assignment, experiment.events, experiment.pre_period)):
+        from .columns import check_columns
+
+        check_columns(experiment)
 
 
 def baseline_sql(spec: str | Path | Experiment, dialect: str = "duckdb", *, pretty: bool = True) -> str:

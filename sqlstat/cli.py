@@ -107,12 +107,7 @@ def run(
     try:
         from . import api
         from .report import render
-        from .spec import check_columns, load_spec
-
-        experiment = load_spec(spec)
-        if db is None or db.lower().startswith("duckdb"):
-            check_columns(experiment)  # misspelt columns of file sources: a spec error, not an engine one
-        analysis, context = api.run_with_context(experiment, db=db, on_progress=line, daily=fmt is Format.html)
+        analysis, context = api.run_with_context(spec, db=db, on_progress=line, daily=fmt is Format.html)
         if line:
             line.clear()
         _emit(render(analysis, fmt.value, context), output, fmt.value, force)
@@ -179,7 +174,8 @@ def check(
     """Validate the spec and print the plan: the test each metric will get and why."""
     try:
         from .report import plan_text
-        from .spec import check_columns, load_spec
+        from .columns import check_columns
+        from .spec import load_spec
 
         experiment = load_spec(spec)
         checked = check_columns(experiment) if columns else []

@@ -19,7 +19,7 @@ from .dialects import DIALECTS, Dialect, finish, finish_view, get_dialect, prepa
 from .errors import CompileError
 from .templating import environment, template_dir  # noqa: F401 (template_dir: public)
 from .expressions import AGGREGATES, CANONICAL, is_predicate
-from .model import VERDICTS, Experiment, Metric, Relation, Source
+from .model import DAILY_MAX_ARMS, VERDICTS, Experiment, Metric, Relation, Source, daily_view_problems
 from .readonly import check_read_only, declared_sources
 
 # Columns of every row the query returns, one row per (metric, arm), in this order.
@@ -396,8 +396,6 @@ def compile_all(
 # Columns of the daily view: the day, then exactly the main query's columns and meaning,
 # one row per (day, metric, arm).
 DAILY_COLUMNS = ("day",) + RESULT_COLUMNS  # plus ALWAYS_VALID_COLUMNS with always_valid = true
-# Arms the daily view keeps apart (by label order); units of further arms count as excluded.
-DAILY_MAX_ARMS = 63
 
 
 class _DailyStates:
@@ -427,8 +425,8 @@ class _DailyStates:
             return exp.column(f"{side}_{name}")
 
         if isinstance(agg, exp.Count):
-            if isinstance(agg.this, exp.Distinct):
-                raise CompileError("count(DISTINCT ...) cannot be accumulated day by day; drop daily = true")
+            if isinstance(agg.this, exp.Distinct):  # refused by render_daily (model.daily_view_problems)
+                raise CompileError(f"internal error: no daily state for {_sql(agg)}")
             return col(self._state(agg, "SUM"))
         if isinstance(agg, (exp.Sum, exp.Avg)):
             total = col(self._state(exp.Sum(this=agg.this.copy()), "SUM"))
@@ -459,11 +457,12 @@ def render_daily(experiment: Experiment, dialect: str | Dialect = "duckdb", *, r
             "the spec does not ask for the daily view: add daily = true under [experiment], with 'time' "
             "in [assignment] (when a unit entered) and in [events] (when an event happened)"
         )
+    problems = daily_view_problems(experiment.assignment, experiment.events, experiment.metrics, experiment.segments)
+    if problems:  # a model built without the spec loader: the same limits, without lines
+        more = f" (and {len(problems) - 1} more)" if len(problems) > 1 else ""
+        raise CompileError(f"{problems[0][0]}: {problems[0][1]}{more}")
     events = experiment.events
-    if events is None or events.time is None or experiment.assignment.time is None or events.per_unit:
-        raise CompileError("the daily view needs [events] (not per_unit) and 'time' in [assignment] and [events]")
-    if experiment.segments or any(m.covariate is not None for m in experiment.metrics):
-        raise CompileError("the daily view supports neither segments nor CUPED covariates")
+    assert events is not None and events.time is not None and experiment.assignment.time is not None
     _, pairs, metrics = _measures(experiment, d)
     states = _DailyStates(d)
     measures: list[dict] = []

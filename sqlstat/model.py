@@ -46,20 +46,15 @@ MISSING_POLICIES: tuple[str, ...] = ("zero", "exclude")
 ROLES: tuple[str, ...] = ("primary", "secondary", "guardrail")
 DIRECTIONS: tuple[str, ...] = ("higher", "lower")
 CORRECTIONS: tuple[str, ...] = ("none", "holm", "bh")
+# The adjustment per family when the spec gives none: the primary metric and the guardrails
+# are read one by one, secondary metrics and segment rows are many looks at once.
+DEFAULT_CORRECTIONS: dict[str, str] = {"primary": "none", "secondary": "bh", "guardrail": "none", "segment": "bh"}
 
-# Test ids, as they appear in every output. The parametric ones are computed in SQL;
-# fisher_exact is chosen in Python from the returned counts when they are too small.
-TEST_TWO_PROPORTION_Z = "two_proportion_z"
-TEST_FISHER_EXACT = "fisher_exact"
-TEST_Z_KNOWN_SIGMA = "z_known_sigma"
-TEST_WELCH_T = "welch_t"
-TEST_STUDENT_T = "student_t"
-TEST_RATIO_DELTA_Z = "ratio_delta_z"  # ratio of per-unit sums, delta-method standard error
-TEST_CUPED_WELCH_T = "cuped_welch_t"  # covariate-adjusted (CUPED) difference, Welch df
-# One-arm checks against a fixed target
-TEST_BINOMIAL_EXACT = "binomial_exact"
-TEST_ONE_SAMPLE_Z = "one_sample_z"
-TEST_ONE_SAMPLE_T = "one_sample_t"
+# Test ids live in the method registry (methods.py); re-exported here for older imports.
+from .methods import (  # noqa: E402,F401
+    TEST_BINOMIAL_EXACT, TEST_CUPED_WELCH_T, TEST_FISHER_EXACT, TEST_ONE_SAMPLE_T, TEST_ONE_SAMPLE_Z,
+    TEST_RATIO_DELTA_Z, TEST_STUDENT_T, TEST_TWO_PROPORTION_Z, TEST_WELCH_T, TEST_Z_KNOWN_SIGMA, planned,
+)
 
 
 @dataclass(frozen=True, eq=False)
@@ -126,16 +121,8 @@ class Metric:
 
     @property
     def planned_test(self) -> str:
-        """The test the SQL computes a statistic for (proportions may fall back to Fisher)."""
-        if self.kind == "ratio":
-            return TEST_RATIO_DELTA_Z
-        if self.covariate is not None:
-            return TEST_CUPED_WELCH_T
-        if self.kind == "proportion":
-            return TEST_TWO_PROPORTION_Z
-        if self.sigma is not None:
-            return TEST_Z_KNOWN_SIGMA
-        return TEST_STUDENT_T if self.equal_variance else TEST_WELCH_T
+        """The test the SQL computes a statistic for (methods.planned; the data may force its fallback)."""
+        return planned(self).id
 
 
 @dataclass(frozen=True, eq=False)
@@ -153,9 +140,7 @@ class Experiment:
     sample_ratio_alpha: float = 0.001
     segments: tuple[exp.Column, ...] = ()  # unit attributes (assignment columns) to break down by
     pre_period: PrePeriod | None = None
-    corrections: dict[str, str] = field(
-        default_factory=lambda: {"primary": "none", "secondary": "bh", "guardrail": "none", "segment": "bh"}
-    )
+    corrections: dict[str, str] = field(default_factory=lambda: dict(DEFAULT_CORRECTIONS))
     power: float = 0.8  # planning default
     always_valid: bool = False  # add always-valid p-values and confidence sequences (mSPRT)
     # mSPRT mixing standard deviation, as a share of the control value: the effect the
@@ -174,3 +159,58 @@ class Experiment:
             if m.name == name:
                 return m
         raise KeyError(name)
+
+
+# --- The daily cumulative view's limits (checked by spec.py with locations, enforced by compile.py)
+
+# Aggregates whose value up to day d follows from running per-unit state (sums, counts,
+# running min/max). count(DISTINCT ...) does not: a value seen on two days counts once.
+DAILY_AGGREGATES = ("count", "count_if", "sum", "avg", "min", "max")
+# Arms the daily view keeps apart (by label order); units of further arms count as excluded.
+DAILY_MAX_ARMS = 63
+
+
+def has_count_distinct(node: exp.Expression | None) -> bool:
+    """Whether a value expression holds count(DISTINCT ...), which cannot accumulate day by day."""
+    return node is not None and any(isinstance(c.this, exp.Distinct) for c in node.find_all(exp.Count))
+
+
+def daily_view_problems(assignment: Relation | None, events: Relation | None, metrics: tuple[Metric, ...] | list[Metric],
+                        segments: tuple | list) -> list[tuple[str, str]]:
+    """Why the daily cumulative view (``daily = true``) cannot be compiled: (key path, message) pairs.
+
+    The one statement of these limits: spec.py reports them with their lines, compile.py
+    refuses a model built without the spec loader that breaks them.
+    """
+    out: list[tuple[str, str]] = []
+    if assignment is not None and assignment.time is None:
+        out.append(("assignment", "the daily view (daily = true) needs 'time' in [assignment]: the column saying when "
+                                  "each unit entered the experiment, e.g. time = \"assigned_at\""))
+    if events is None:
+        out.append(("experiment.daily", "the daily view (daily = true) needs an [events] table with a 'time' column; "
+                                        "metrics computed from the assignment rows have no days to accumulate over"))
+    else:
+        if events.time is None:
+            out.append(("events", "the daily view (daily = true) needs 'time' in [events]: the column saying when each "
+                                  "event happened, e.g. time = \"happened_at\""))
+        if events.per_unit:
+            out.append(("events.per_unit", "the daily view accumulates each unit's event rows day by day; per_unit = "
+                                           "true sources have one row per unit and no days to accumulate (drop one "
+                                           "of them)"))
+    if segments:
+        out.append(("experiment.segments", "the daily view does not break results down by segment; drop 'segments' "
+                                           "or 'daily = true'"))
+    for m in metrics:
+        path = f"metric[{m.index + 1}]"
+        if m.covariate is not None:
+            out.append((f"{path}.covariate", "CUPED is not available in the daily view (the covariate adjustment is "
+                                             "fitted once, at the end); drop it or drop 'daily = true'"))
+        if m.kind == "ratio" and m.missing == "exclude":
+            out.append((f"{path}.missing", "the daily view of a ratio metric needs missing = \"zero\" (units without "
+                                           "events count with 0 in numerator and denominator)"))
+        for key, node in (("numerator" if m.kind == "ratio" else "value", m.value), ("denominator", m.denominator)):
+            if has_count_distinct(node):
+                out.append((f"{path}.{key}", f"count(DISTINCT ...) cannot be accumulated day by day in the daily "
+                                             f"view (a value seen on two days must count once); use one of "
+                                             f"{', '.join(DAILY_AGGREGATES)}, or drop 'daily = true'"))
+    return out

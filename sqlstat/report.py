@@ -6,12 +6,11 @@ import csv
 import io
 import json
 import math
-from typing import TYPE_CHECKING, Any
+from typing import Any
 
+from . import methods
 from .model import GUARDRAIL_HARMED, GUARDRAIL_HELD, GUARDRAIL_NOT_SHOWN, LEGACY_VERDICTS, format_p
-
-if TYPE_CHECKING:  # report only reads results; importing stats would pull in SciPy
-    from .stats import Analysis, TestResult
+from .results import Analysis, TestResult  # no SciPy: report reads results, never stats
 
 CAUTION = (
     "How to read this: a p-value is the chance of a difference at least this large if the arms "
@@ -96,6 +95,7 @@ def result_dict(r: "TestResult") -> dict[str, Any]:
             "sequence_high": _num(r.sequence_high),
         },
         "notes": list(r.notes),
+        "note_codes": [getattr(n, "code", None) for n in r.notes],
     }
 
 
@@ -236,7 +236,7 @@ def to_text(a: "Analysis") -> str:
             f"p = {_p(srm.p_value)}: {verdict}"
         )
     for n in a.notes:
-        if not n.startswith("segment results"):
+        if getattr(n, "code", None) != "segments_exploratory":
             out.append(f"Note: {n}")
     if a.verdicts:
         out.append("")
@@ -295,7 +295,7 @@ def to_text(a: "Analysis") -> str:
             continue
         seen.add((r.metric, r.test))
         out.append(f"  {r.metric} ({r.test}): {r.reason}")
-    flagged = [(r.metric, r.arm, n) for r in a.overall for n in r.notes if not n.startswith("interval:")]
+    flagged = [(r.metric, r.arm, n) for r in a.overall for n in r.notes if getattr(n, "code", None) != "interval"]
     if flagged:
         out.append("")
         out.append("Notes:")
@@ -340,7 +340,6 @@ def render(a: Analysis, fmt: str, context: dict | None = None) -> str:
 def plan_text(experiment: Any) -> str:
     """What ``sqlstat check`` prints: the spec as understood and the test each metric will get."""
     from .expressions import CANONICAL
-    from .model import TEST_TWO_PROPORTION_Z
 
     e = experiment
     src = e.assignment.source
@@ -360,18 +359,14 @@ def plan_text(experiment: Any) -> str:
     out.append("")
     out.append("Metrics and the test each will get:")
     for m in e.metrics:
-        out.append(f"  {m.name} [{m.kind}] value = {m.value.sql(CANONICAL)}")
-        if m.planned_test == TEST_TWO_PROPORTION_Z:
-            out.append(
-                "    two_proportion_z if every arm has >= 10 successes and >= 10 failures "
-                "(common practice); otherwise fisher_exact on the counts"
-            )
-        elif m.planned_test == "z_known_sigma":
-            out.append(f"    z_known_sigma: z test with the given sigma = {m.sigma:g}")
-        elif m.planned_test == "student_t":
-            out.append("    student_t: pooled-variance t test (equal_variance = true)")
+        if m.kind == "ratio" and m.denominator is not None:
+            out.append(f"  {m.name} [{m.kind}] numerator = {m.value.sql(CANONICAL)}, "
+                       f"denominator = {m.denominator.sql(CANONICAL)}")
         else:
-            out.append("    welch_t: Welch's t test with Welch-Satterthwaite df; an arm under 30 units gets a normality note")
+            out.append(f"  {m.name} [{m.kind}] value = {m.value.sql(CANONICAL)}")
+        if m.covariate is not None:
+            out.append(f"    covariate (pre-period) = {m.covariate.sql(CANONICAL)}")
+        out += [f"    {line}" for line in methods.plan_lines(m)]
         if m.missing == "exclude":
             out.append("    units without a value are left out of this metric")
     out.append("")

@@ -12,205 +12,55 @@ scipy.stats is imported only when an exact test is needed.
 from __future__ import annotations
 
 import math
-from dataclasses import dataclass, field
+from dataclasses import replace
 from typing import Any, Iterable, Literal
 
 from scipy import special
 
-from .model import (
+from . import methods
+from .methods import (
+    MIN_SUCCESSES_FAILURES,  # noqa: F401 (older imports read the thresholds here)
+    MIN_UNITS_FOR_CLT,
+    T_TESTS,
     TEST_BINOMIAL_EXACT,
     TEST_CUPED_WELCH_T,
+    TEST_FISHER_EXACT,
     TEST_ONE_SAMPLE_T,
     TEST_ONE_SAMPLE_Z,
     TEST_RATIO_DELTA_Z,
-    TEST_FISHER_EXACT,
     TEST_STUDENT_T,
     TEST_TWO_PROPORTION_Z,
     TEST_WELCH_T,
     TEST_Z_KNOWN_SIGMA,
+)
+from .model import (
     VERDICT_FAVOURABLE,
     VERDICT_INVALID,
     VERDICT_UNCLEAR,
     VERDICT_UNFAVOURABLE,
-    VERDICTS,
+    VERDICTS,  # noqa: F401
     Experiment,
     Metric,
     format_p,
 )
+from .results import (  # noqa: F401 (the result types, re-exported for older imports)
+    NAN,
+    STATISTIC_LABELS,
+    Analysis,
+    ArmSummary,
+    Decision,
+    Guardrail,
+    PROBLEM_NOTES,
+    Note,
+    SampleRatio,
+    TargetCheck,
+    TestResult,
+    comparison,
+    no_test,
+)
 
 Alternative = Literal["two-sided", "less", "greater"]
 ALTERNATIVES = ("two-sided", "less", "greater")
-
-# Common-practice thresholds (rules of thumb, not theorems):
-MIN_SUCCESSES_FAILURES = 10  # normal approximation to a proportion needs >= 10 of each
-MIN_UNITS_FOR_CLT = 30  # below this per arm, the t test leans on normally distributed data
-
-NAN = float("nan")
-
-
-@dataclass(frozen=True)
-class ArmSummary:
-    """Sufficient statistics of one arm for one metric."""
-
-    n: int
-    mean: float
-    variance: float
-    total: float
-
-
-@dataclass(frozen=True)
-class Guardrail:
-    """A one-sided non-inferiority test: is the treatment no worse than the margin allows?"""
-
-    direction: str  # "higher" or "lower" is better
-    margin: float  # tolerated harm, in metric units or as a share of control (relative)
-    relative: bool
-    statistic: float
-    p_value: float  # one-sided; small means "no worse than the margin"
-    p_value_adjusted: float
-    bound: float  # the one-sided 1 - alpha confidence bound on the harm side
-    held: bool  # non-inferiority shown at alpha (after any adjustment)
-    harm: bool  # the two-sided test found a significant change in the bad direction
-
-
-@dataclass(frozen=True)
-class TestResult:
-    """One comparison: a treatment arm against control on one metric (scipy-like fields)."""
-
-    metric: str
-    kind: str
-    arm: str
-    test: str
-    reason: str
-    control: ArmSummary
-    treatment: ArmSummary
-    estimate: float  # treatment - control (CUPED: the covariate-adjusted difference)
-    std_error: float
-    statistic: float
-    statistic_name: str  # "z", "t" or "odds_ratio" (Fisher rows: the conditional maximum-likelihood estimate)
-    df: float | None
-    p_value: float
-    ci_low: float
-    ci_high: float
-    alpha: float
-    significant: bool  # at alpha, judged on the adjusted p-value when one applies
-    alternative: str = "two-sided"
-    notes: tuple[str, ...] = ()
-    data_problem: bool = False  # the data could not support this comparison
-    role: str = "secondary"
-    better: str | None = None  # "higher" or "lower" is good, when the spec says
-    segment: str | None = None  # None for the whole population
-    segment_value: str | None = None
-    difference: float = NAN  # raw treatment - control value, before any adjustment
-    relative_lift: float = NAN  # (treatment - control) / control
-    lift_std_error: float = NAN
-    lift_ci_low: float = NAN
-    lift_ci_high: float = NAN
-    family: str = "secondary"  # multiplicity family this comparison belongs to
-    correction: str = "none"  # "none", "holm" or "bh"
-    p_value_adjusted: float = NAN
-    theta: float | None = None  # CUPED: the within-arm slope pooled over both arms (diagnostic)
-    theta_treatment: float | None = None  # CUPED: each arm's own slope, used by the estimate (Lin, 2013)
-    theta_control: float | None = None
-    variance_reduction: float | None = None  # CUPED: 1 - adjusted variance / raw variance
-    guardrail: Guardrail | None = None
-    always_valid_p_value: float | None = None  # mSPRT, valid at every look
-    sequence_low: float | None = None  # always-valid confidence sequence for the estimate
-    sequence_high: float | None = None
-    odds_ratio_ci_low: float | None = None  # Fisher rows: exact interval for the conditional odds ratio
-    odds_ratio_ci_high: float | None = None
-
-    @property
-    def statistic_label(self) -> str:
-        """What ``statistic`` is, in words (every output form shows it)."""
-        return STATISTIC_LABELS.get(self.statistic_name, self.statistic_name)
-
-
-STATISTIC_LABELS = {
-    "z": "z statistic",
-    "t": "t statistic",
-    "odds_ratio": "odds ratio, conditional maximum-likelihood estimate (Fisher); not a z or t statistic",
-}
-
-
-@dataclass(frozen=True)
-class TargetCheck:
-    """One arm's metric against a fixed target value (one-arm test)."""
-
-    metric: str
-    kind: str
-    arm: str
-    target: float
-    value: float
-    n: int
-    test: str
-    reason: str
-    statistic: float
-    df: float | None
-    alternative: str
-    p_value: float
-    alpha: float
-    significant: bool
-
-
-@dataclass(frozen=True)
-class SampleRatio:
-    """Pearson's chi-square goodness-of-fit test of units per arm against the planned split."""
-
-    arms: tuple[str, ...]
-    observed: tuple[int, ...]
-    expected: tuple[float, ...]
-    statistic: float
-    df: int
-    p_value: float
-    alpha: float
-    mismatch: bool
-
-
-@dataclass(frozen=True)
-class Decision:
-    """The readout for one treatment arm, with the reasons behind it."""
-
-    arm: str
-    verdict: str  # one of VERDICTS
-    reasons: tuple[str, ...]
-
-
-@dataclass(frozen=True)
-class Analysis:
-    """Everything the report shows: arms, the sample-ratio check and every comparison."""
-
-    experiment: str
-    control: str
-    alpha: float
-    arms: tuple[tuple[str, int], ...]
-    excluded_units: int
-    sample_ratio: SampleRatio | None
-    results: tuple[TestResult, ...]
-    notes: tuple[str, ...] = field(default_factory=tuple)
-    targets: tuple[TargetCheck, ...] = ()
-    decisions: tuple[Decision, ...] = ()
-    corrections: dict[str, str] = field(default_factory=dict)
-    data_problems: tuple[str, ...] = ()  # the notes that mean the data does not match the plan
-
-    @property
-    def verdicts(self) -> tuple[Decision, ...]:
-        """The verdict per treatment arm (the same objects as ``decisions``, the older name)."""
-        return self.decisions
-
-    @property
-    def overall(self) -> tuple[TestResult, ...]:
-        return tuple(r for r in self.results if r.segment is None)
-
-    @property
-    def segmented(self) -> tuple[TestResult, ...]:
-        return tuple(r for r in self.results if r.segment is not None)
-
-    @property
-    def data_problem(self) -> bool:
-        return bool(self.data_problems) or any(r.data_problem for r in self.overall) or (
-            self.sample_ratio is not None and self.sample_ratio.mismatch
-        )
 
 
 # --------------------------------------------------------------------------- distributions
@@ -400,7 +250,8 @@ def sample_ratio_test(
     stat = float(sum((o - e) ** 2 / e for o, e in zip(observed, expected)))
     df = len(arms) - 1
     p = float(special.chdtrc(df, stat))
-    return SampleRatio(arms, observed, expected, stat, df, p, alpha, p < alpha)
+    return SampleRatio(arms=arms, observed=observed, expected=expected, statistic=stat, df=df, p_value=p, alpha=alpha,
+                       mismatch=p < alpha)
 
 
 # --------------------------------------------------------------------------- test choice
@@ -415,48 +266,13 @@ def _f(x: Any) -> float:
 
 
 def choose_test(metric: Metric, treatment: ArmSummary, control: ArmSummary) -> tuple[str, str]:
-    """The test a practitioner would pick for this metric and these counts, and why."""
-    if metric.kind == "ratio":
-        return TEST_RATIO_DELTA_Z, (
-            "ratio of per-unit sums (the unit of analysis differs from the randomisation unit): "
-            "z test with the delta-method standard error, which respects that a unit's events are correlated"
-        )
-    if metric.covariate is not None:
-        return TEST_CUPED_WELCH_T, (
-            "pre-period covariate given: CUPED-adjusted difference (Lin's interacted regression: each arm's "
-            "own slope, means adjusted to the pooled covariate mean), standard error with the slopes estimated, "
-            "Welch df; same expected difference, smaller standard error"
-        )
-    if metric.kind == "proportion":
-        counts = [
-            ("treatment", round(treatment.total), treatment.n),
-            ("control", round(control.total), control.n),
-        ]
-        small = [
-            f"{arm} has {min(s, n - s)} {'successes' if s <= n - s else 'failures'}"
-            for arm, s, n in counts
-            if min(s, n - s) < MIN_SUCCESSES_FAILURES
-        ]
-        if small:
-            return TEST_FISHER_EXACT, (
-                f"proportion with few events ({'; '.join(small)}; fewer than "
-                f"{MIN_SUCCESSES_FAILURES}, a common-practice threshold): the normal "
-                f"approximation is unreliable, so Fisher's exact test on the 2x2 counts"
-            )
-        return TEST_TWO_PROPORTION_Z, (
-            f"proportion with at least {MIN_SUCCESSES_FAILURES} successes and failures in each arm "
-            f"(common practice): two-proportion z test, pooled standard error under no difference"
-        )
-    if metric.sigma is not None:
-        return TEST_Z_KNOWN_SIGMA, (
-            f"mean with known population standard deviation (sigma = {metric.sigma:g}): z test"
-        )
-    if metric.equal_variance:
-        return TEST_STUDENT_T, "mean, variance estimated, equal variances assumed by the spec: Student's pooled t test"
-    return TEST_WELCH_T, (
-        "mean with variance estimated from the data: Welch's t test "
-        "(no equal-variance assumption, Welch-Satterthwaite df)"
-    )
+    """The test a practitioner would pick for this metric and these counts, and why (methods.choose)."""
+    method, reason = methods.choose(metric, treatment, control)
+    return method.id, reason
+
+
+def _note(notes: list, code: str, text: str) -> None:
+    notes.append(Note(code, text))
 
 
 def _summary(row: dict, prefix: str = "") -> ArmSummary:
@@ -470,103 +286,111 @@ def _summary(row: dict, prefix: str = "") -> ArmSummary:
     )
 
 
-T_TESTS = (TEST_WELCH_T, TEST_STUDENT_T, TEST_CUPED_WELCH_T)
+# How each registry test's statistic becomes a p-value and an interval: "normal" (z against
+# the standard normal, Wald interval), "t" (Student's t with the row's df), "fisher" (exact
+# conditional test on the 2x2 counts, Newcombe's interval), "binomial" (exact one-sample
+# test). tests/test_methods.py checks that every id of methods.METHODS has an entry.
+INFERENCE: dict[str, str] = {
+    TEST_TWO_PROPORTION_Z: "normal",
+    TEST_FISHER_EXACT: "fisher",
+    TEST_Z_KNOWN_SIGMA: "normal",
+    TEST_WELCH_T: "t",
+    TEST_STUDENT_T: "t",
+    TEST_RATIO_DELTA_Z: "normal",
+    TEST_CUPED_WELCH_T: "t",
+    TEST_BINOMIAL_EXACT: "binomial",
+    TEST_ONE_SAMPLE_Z: "normal",
+    TEST_ONE_SAMPLE_T: "t",
+}
 
 
 def compare(metric: Metric, row: dict, alpha: float) -> TestResult:
     """Turn one treatment row of the query into a TestResult (before multiplicity adjustment)."""
     treatment, control = _summary(row), _summary(row, "control_")
-    test, reason = choose_test(metric, treatment, control) if treatment.n and control.n else (metric.planned_test, "")
-    notes: list[str] = []
+    method, reason = methods.choose(metric, treatment, control)
+    test = method.id
+    notes: list[Note] = []
     problem = False
     estimate = _f(row.get("estimate"))
     se = _f(row.get("std_error"))
     statistic = _f(row.get("statistic"))
     df = row.get("df")
     df = float(df) if _finite(df) else None
-    stat_name = "t" if test in T_TESTS else ("odds_ratio" if test == TEST_FISHER_EXACT else "z")
+    stat_name = method.statistic
     or_lo = or_hi = None
-    segment = row.get("segment")
-    base = dict(
-        metric=metric.name, kind=metric.kind, arm=str(row["arm"]), role=metric.role, better=metric.better,
-        segment=None if segment is None else str(segment),
-        segment_value=None if segment is None else str(row.get("segment_value")),
-    )
+    # The fields every result of this row carries, whatever happens below (role, segment).
+    shared = dict(metric=metric, arm=row["arm"], segment=row.get("segment"), segment_value=row.get("segment_value"),
+                  test=test, control=control, treatment=treatment, alpha=alpha, statistic_name=stat_name)
 
     if treatment.n == 0 or control.n == 0:
         empty = "treatment" if treatment.n == 0 else "control"
-        notes.append(f"the {empty} arm has no units with a value for this metric: no test is possible")
-        return TestResult(**base, test=test, reason=reason or "no data", control=control, treatment=treatment,
-                          estimate=NAN, std_error=NAN, statistic=NAN, statistic_name=stat_name, df=None,
-                          p_value=NAN, ci_low=NAN, ci_high=NAN, alpha=alpha, significant=False,
-                          notes=tuple(notes), data_problem=True)
+        notes.append(Note("no_units", f"the {empty} arm has no units with a value for this metric: no test is possible"))
+        return no_test(**shared, reason=reason or "no data", notes=notes)
 
     sums = ("total", "control_total", "variance", "control_variance", "std_error")
     if any(isinstance(row.get(k), float) and math.isinf(row[k]) for k in sums):
         # A silent p = 1 would follow (difference / infinity = 0): refuse to test instead.
-        notes.append("values are too large for double precision (a sum or variance overflowed to infinity): "
-                     "no test is possible; rescale the metric (e.g. divide it by 1e6)")
-        return TestResult(metric.name, metric.kind, str(row["arm"]), test, reason, control, treatment,
-                          estimate, NAN, NAN, stat_name, None, NAN, NAN, NAN, alpha, False, notes=tuple(notes), data_problem=True)
+        notes.append(Note("overflow", "values are too large for double precision (a sum or variance overflowed to "
+                                      "infinity): no test is possible; rescale the metric (e.g. divide it by 1e6)"))
+        return no_test(**shared, reason=reason, estimate=estimate, notes=notes)
 
     if metric.kind == "proportion" and (row.get("invalid") or 0) > 0:
-        notes.append(
+        notes.append(Note("not_binary",
             f"{int(row['invalid'])} unit value(s) in this arm are not 0 or 1, so this is not a proportion; "
             f"write the value as a condition (e.g. count(*) > 0) or use kind = \"mean\""
-        )
+        ))
         if test == TEST_FISHER_EXACT:  # counts above n make no 2x2 table: no test, not a crash
-            return TestResult(metric.name, metric.kind, str(row["arm"]), test, reason, control, treatment,
-                              estimate, NAN, NAN, stat_name, None, NAN, NAN, NAN, alpha, False,
-                              notes=tuple(notes), data_problem=True)
+            return no_test(**shared, reason=reason, estimate=estimate, notes=notes)
         problem = True
 
-    if test == TEST_FISHER_EXACT:
+    inference = INFERENCE[test]
+    if inference == "fisher":
         x_t, x_c = round(treatment.total), round(control.total)
         _, p = fisher_exact(x_t, treatment.n, x_c, control.n)
         statistic, or_lo, or_hi = conditional_odds_ratio(x_t, treatment.n, x_c, control.n, alpha)
         lo, hi = newcombe_interval(x_t, treatment.n, x_c, control.n, alpha)
-        notes.append(f"statistic: the odds ratio (conditional maximum-likelihood estimate) with its exact "
+        _note(notes, "statistic", f"statistic: the odds ratio (conditional maximum-likelihood estimate) with its exact "
                      f"{1 - alpha:.0%} interval [{statistic_text(or_lo)}, {statistic_text(or_hi)}]; the interval "
                      f"column is for the difference of proportions")
-        notes.append("interval: Newcombe's hybrid score interval (valid with few events)")
+        _note(notes, "interval", "interval: Newcombe's hybrid score interval (valid with few events)")
         if x_t + x_c == 0 or (x_t == treatment.n and x_c == control.n):
             every = "no unit" if x_t + x_c == 0 else "every unit"
-            notes.append(f"{every} in either arm had the event: the data cannot show a difference (p = 1 by construction)")
+            _note(notes, "no_information", f"{every} in either arm had the event: the data cannot show a difference (p = 1 by construction)")
         stat_name, df = "odds_ratio", None
     else:
         if test in T_TESTS:
             if min(treatment.n, control.n) < 2:
-                notes.append("an arm has fewer than 2 units: its variance, and so the t test, is undefined")
+                _note(notes, "small_arm", "an arm has fewer than 2 units: its variance, and so the t test, is undefined")
                 problem = True
             elif not _finite(statistic):
                 if treatment.variance == 0 and control.variance == 0:
-                    notes.append("both arms have zero variance (every unit has the same value, or values too close "
+                    _note(notes, "zero_variance", "both arms have zero variance (every unit has the same value, or values too close "
                                  "to tell apart in double precision): no test is possible")
                 else:
-                    notes.append("the standard error is zero or undefined: no test is possible")
+                    _note(notes, "no_standard_error", "the standard error is zero or undefined: no test is possible")
                 problem = True
             elif treatment.variance == 0 or control.variance == 0:
                 flat = "treatment" if treatment.variance == 0 else "control"
-                notes.append(f"the {flat} arm has zero variance (every unit has the same value): the test rests on "
+                _note(notes, "zero_variance", f"the {flat} arm has zero variance (every unit has the same value): the test rests on "
                              f"the other arm's variance alone; check the metric's definition")
             if min(treatment.n, control.n) < MIN_UNITS_FOR_CLT:
-                notes.append(
+                _note(notes, "few_units", 
                     f"an arm has fewer than {MIN_UNITS_FOR_CLT} units (common-practice threshold): "
                     f"the t test then assumes the metric is roughly normally distributed"
                 )
         else:
             if not _finite(statistic):
-                notes.append("the standard error is zero or undefined: no test is possible")
+                _note(notes, "no_standard_error", "the standard error is zero or undefined: no test is possible")
                 problem = True
             if test == TEST_RATIO_DELTA_Z and min(treatment.n, control.n) < MIN_UNITS_FOR_CLT:
-                notes.append(
+                _note(notes, "few_units", 
                     f"an arm has fewer than {MIN_UNITS_FOR_CLT} units (common-practice threshold): "
                     f"the delta method's normal approximation may be poor"
                 )
-        p = p_value(statistic, df if stat_name == "t" else None)
-        lo, hi = wald_interval(estimate, se, df if stat_name == "t" else None, alpha)
+        p = p_value(statistic, df if inference == "t" else None)
+        lo, hi = wald_interval(estimate, se, df if inference == "t" else None, alpha)
         if test == TEST_TWO_PROPORTION_Z:
-            notes.append("interval: Wald interval with unpooled standard error")
+            _note(notes, "interval", "interval: Wald interval with unpooled standard error")
 
     lift, lift_se = _f(row.get("relative_lift")), _f(row.get("lift_std_error"))
     if test == TEST_FISHER_EXACT:
@@ -574,10 +398,10 @@ def compare(metric: Metric, row: dict, alpha: float) -> TestResult:
         # the score interval for the ratio of the two rates, minus 1.
         r_lo, r_hi = ratio_score_interval(x_t, treatment.n, x_c, control.n, alpha)
         lift_lo, lift_hi = r_lo - 1.0, r_hi - 1.0
-        notes.append("relative-lift interval: score interval for the ratio of the two rates "
+        _note(notes, "lift_interval", "relative-lift interval: score interval for the ratio of the two rates "
                      "(Miettinen-Nurminen), valid with few events")
         if x_c == 0:
-            notes.append("the control arm had no events: the relative lift is undefined and its interval "
+            _note(notes, "no_control_events", "the control arm had no events: the relative lift is undefined and its interval "
                          "has no upper end")
     else:
         lift_lo, lift_hi = wald_interval(lift, lift_se, None, alpha)
@@ -587,7 +411,7 @@ def compare(metric: Metric, row: dict, alpha: float) -> TestResult:
         reason += (f"; slopes {_f(row.get('theta_treatment')):.4g} (treatment) and "
                    f"{_f(row.get('theta_control')):.4g} (control), variance reduced by {reduction:.1%}")
         if reduction < 0.01:
-            notes.append("the pre-period covariate barely predicts the metric: CUPED gained little")
+            _note(notes, "weak_covariate", "the pre-period covariate barely predicts the metric: CUPED gained little")
 
     guardrail = None
     if metric.role == "guardrail" and metric.better is not None:
@@ -609,20 +433,22 @@ def compare(metric: Metric, row: dict, alpha: float) -> TestResult:
             g_p = float(special.ndtr(-g_stat))
             r_lo, r_hi = ratio_score_interval(x_t, treatment.n, x_c, control.n, 2 * alpha)
             bound = (r_lo if higher else r_hi) - 1.0
-            notes.append("guardrail margin test: score test for the ratio of the rates (Miettinen-Nurminen), "
+            _note(notes, "guardrail_method", "guardrail margin test: score test for the ratio of the rates (Miettinen-Nurminen), "
                          "valid with few events")
         elif test == TEST_FISHER_EXACT:
-            notes.append("guardrail margin test uses the normal approximation, which is rough with this few events")
+            _note(notes, "guardrail_method", "guardrail margin test uses the normal approximation, which is rough with this few events")
         harm = bool(_finite(p) and p < alpha and ((estimate < 0) if metric.better == "higher" else (estimate > 0)))
-        guardrail = Guardrail(metric.better, float(margin), relative, g_stat, g_p, g_p, bound,
-                              bool(_finite(g_p) and g_p < alpha), harm)
+        guardrail = Guardrail(direction=metric.better, margin=float(margin), relative=relative, statistic=g_stat,
+                              p_value=g_p, p_value_adjusted=g_p, bound=bound, held=bool(_finite(g_p) and g_p < alpha),
+                              harm=harm)
 
-    return TestResult(
-        **base, test=test, reason=reason, control=control, treatment=treatment, estimate=estimate,
-        std_error=se, statistic=statistic, statistic_name=stat_name, df=df, p_value=p, ci_low=lo,
-        ci_high=hi, alpha=alpha, significant=bool(_finite(p) and p < alpha), notes=tuple(notes),
+    shared.update(statistic_name=stat_name)
+    return comparison(
+        **shared, reason=reason, estimate=estimate,
+        std_error=se, statistic=statistic, df=df, p_value=p, ci_low=lo,
+        ci_high=hi, significant=bool(_finite(p) and p < alpha), notes=notes,
         data_problem=problem, difference=_f(row.get("difference")), relative_lift=lift,
-        lift_std_error=lift_se, lift_ci_low=lift_lo, lift_ci_high=lift_hi, p_value_adjusted=p,
+        lift_std_error=lift_se, lift_ci_low=lift_lo, lift_ci_high=lift_hi,
         theta=theta, variance_reduction=reduction, guardrail=guardrail,
         theta_treatment=_f(row["theta_treatment"]) if theta is not None and _finite(row.get("theta_treatment")) else None,
         theta_control=_f(row["theta_control"]) if theta is not None and _finite(row.get("theta_control")) else None,
@@ -683,28 +509,19 @@ def target_check(metric: Metric, row: dict, alpha: float) -> TargetCheck | None:
     value = _f(row.get("value"))
     stat = _f(row.get("target_statistic"))
     df = float(row["target_df"]) if _finite(row.get("target_df")) else None
-    if metric.kind == "proportion":
-        successes = round(_f(row.get("total")))
-        if min(n * target, n * (1 - target)) < MIN_SUCCESSES_FAILURES:
-            from scipy import stats as sps
+    method, reason = methods.choose_target(metric, n)
+    test = method.id
+    if INFERENCE[test] == "binomial":
+        from scipy import stats as sps
 
-            res = sps.binomtest(successes, n, target, alternative=alternative)
-            test, reason = TEST_BINOMIAL_EXACT, (
-                f"proportion with n*target or n*(1-target) below {MIN_SUCCESSES_FAILURES} "
-                f"(common practice): exact binomial test"
-            )
-            p, stat, df = float(res.pvalue), float(successes), None
-        else:
-            test, reason = TEST_ONE_SAMPLE_Z, "proportion with enough units: one-sample z test against the target rate"
-            p = p_value(stat, None, alternative)
-    elif metric.kind == "mean":
-        test, reason = TEST_ONE_SAMPLE_T, "mean with variance estimated from the data: one-sample t test"
-        p = p_value(stat, df, alternative)
+        successes = round(_f(row.get("total")))
+        res = sps.binomtest(successes, n, target, alternative=alternative)
+        p, stat, df = float(res.pvalue), float(successes), None
     else:
-        test, reason = TEST_ONE_SAMPLE_Z, "ratio: one-sample z test with the delta-method standard error"
-        p = p_value(stat, None, alternative)
-    return TargetCheck(metric.name, metric.kind, str(row["arm"]), float(target), value, n, test, reason,
-                       stat, df, alternative, p, alpha, bool(_finite(p) and p < alpha))
+        p = p_value(stat, df if INFERENCE[test] == "t" else None, alternative)
+    return TargetCheck(metric=metric.name, kind=metric.kind, arm=str(row["arm"]), target=float(target), value=value,
+                       n=n, test=test, reason=reason, statistic=stat, df=df, alternative=alternative, p_value=p,
+                       alpha=alpha, significant=bool(_finite(p) and p < alpha))
 
 
 # --------------------------------------------------------------------------- multiplicity
@@ -788,7 +605,7 @@ def decide(arms: list[str], results: list[TestResult], srm: SampleRatio | None) 
     for arm in arms:
         reasons: list[str] = []
         if srm is not None and srm.mismatch:
-            decisions.append(Decision(arm, VERDICT_INVALID, (
+            decisions.append(Decision(arm=arm, verdict=VERDICT_INVALID, reasons=(
                 f"sample-ratio mismatch (p = {format_p(srm.p_value)}): the split of units differs from the plan, "
                 "so assignment or logging is broken; find the cause before reading any result",)))
             continue
@@ -812,9 +629,13 @@ def decide(arms: list[str], results: list[TestResult], srm: SampleRatio | None) 
             verdict = VERDICT_UNFAVOURABLE
         for r in primary:
             p = r.p_value_adjusted
+            problem = [n for n in r.notes if getattr(n, "code", None) in PROBLEM_NOTES]
             if not _finite(p):
-                reasons.append(f"primary metric {r.metric}: no test was possible")
+                why = f" ({problem[0]})" if problem else ""
+                reasons.append(f"primary metric {r.metric}: no test was possible{why}")
                 continue
+            if r.data_problem and problem:
+                reasons.append(f"primary metric {r.metric} has a data problem: {problem[0]}")
             better = r.better
             if not r.significant:
                 reasons.append(
@@ -836,7 +657,7 @@ def decide(arms: list[str], results: list[TestResult], srm: SampleRatio | None) 
                 verdict = VERDICT_FAVOURABLE
         if not primary:
             reasons.append("no primary metric: declare one with role = \"primary\" for a verdict")
-        decisions.append(Decision(arm, verdict, tuple(reasons)))
+        decisions.append(Decision(arm=arm, verdict=verdict, reasons=tuple(reasons)))
     return decisions
 
 
@@ -941,7 +762,7 @@ def analyse(experiment: Experiment, rows: Iterable[dict]) -> Analysis:
         m = by_index_all.get(int(r.get("metric_index") or 0))
         n, arm_units = r.get("n"), r.get("units")
         if r.get("arm") is not None and m is not None and m.missing == "exclude" and _finite(n) and _finite(arm_units) and arm_units > n:
-            notes.append(f"{m.name}: {int(arm_units - n)} unit(s) of arm {r['arm']!r} have no value and were left out "
+            _note(notes, "excluded_missing", f"{m.name}: {int(arm_units - n)} unit(s) of arm {r['arm']!r} have no value and were left out "
                          f"(missing = \"exclude\")")
     if experiment.control not in units or units.get(experiment.control, 0) == 0:
         from .errors import DataProblem
@@ -983,7 +804,7 @@ def analyse(experiment: Experiment, rows: Iterable[dict]) -> Analysis:
         results.append(result)
     results = apply_corrections(results, experiment.corrections)
     if any(r.segment is not None for r in results):
-        notes.append(
+        _note(notes, "segments_exploratory", 
             "segment results are exploratory: many slices make chance differences likely, so their p-values "
             f"are adjusted ({experiment.corrections.get('segment', 'none')}) and they do not enter the verdict"
         )
@@ -997,8 +818,8 @@ def analyse(experiment: Experiment, rows: Iterable[dict]) -> Analysis:
         excluded_units=excluded,
         sample_ratio=srm,
         results=tuple(results),
-        notes=tuple(problems + notes + list(experiment.notes)),
-        data_problems=tuple(problems),
+        notes=tuple([Note("data_problem", n) for n in problems] + notes + [Note("spec", n) for n in experiment.notes]),
+        data_problems=tuple(Note("data_problem", n) for n in problems),
         targets=tuple(targets),
         decisions=tuple(decisions),
         corrections=dict(experiment.corrections),

@@ -11,7 +11,8 @@ from typer.testing import CliRunner
 import sqlstat
 from sqlstat.cli import app
 from sqlstat.errors import SpecError, UsageError
-from sqlstat.spec import check_columns, load_spec
+from sqlstat.columns import check_columns
+from sqlstat.spec import load_spec
 
 from .conftest import PROJECT, make_experiment, spec_text
 
