@@ -310,6 +310,7 @@ def _finish(canonical: str, d: Dialect, pretty: bool, experiment: Experiment, vi
         raise CompileError(f"internal error: the rendered query does not parse: {err}") from err
     if len(statements) != 1 or not isinstance(statements[0], exp.Select):
         raise CompileError("internal error: the rendered query is not exactly one SELECT")
+    _drop_redundant_parentheses(statements[0])
     text = finish(statements[0], d, pretty=pretty) + "\n"
     if d.max_query_bytes and len(text.encode()) > d.max_query_bytes:
         text = finish(statements[0], d, pretty=False) + "\n"
@@ -330,6 +331,29 @@ def _finish(canonical: str, d: Dialect, pretty: bool, experiment: Experiment, vi
     if view is not None:
         return finish_view(statements[0], d, view, pretty=pretty) + ";\n"
     return text
+
+
+# Expressions that print as one token or a bracketed call: parentheses around them never
+# change what a query means.
+_ATOMS = (exp.Column, exp.Literal, exp.Case, exp.Cast, exp.Null, exp.Boolean, exp.Paren)
+# sqlglot's operators derive from exp.Func too; a call is a Func that is none of them.
+_OPERATORS = (exp.Binary, exp.Unary, exp.Connector, exp.Predicate)
+
+
+def _atom(node: exp.Expression) -> bool:
+    if isinstance(node, _ATOMS):
+        return True
+    return isinstance(node, exp.Func) and not isinstance(node, _OPERATORS) and type(node).__name__ != "Window"
+
+
+def _drop_redundant_parentheses(tree: exp.Expression) -> None:
+    """Remove parentheses around atoms (a column, a literal, a call, a CASE), which the
+    templates' macros add around every argument they are given: pretty-printed, each pair
+    costs lines, and the readout's text once doubled that way."""
+    for node in list(tree.find_all(exp.Paren)):
+        inner = node.this
+        if _atom(inner) and node.parent is not None:
+            node.replace(inner)
 
 
 def _semicolon_sources(experiment: Experiment) -> str:

@@ -44,6 +44,21 @@ def _literal(x: float | None) -> str:
     return repr(float(x))
 
 
+def normal_quantile_literal(p: float) -> str:
+    """Phi^-1(p) for a p known when compiling, as a SQL number literal (NULL unless 0 < p < 1).
+
+    statistics.NormalDist.inv_cdf implements Wichura's (1988) Algorithm AS 241 (PPND16),
+    the same method as the SQL macro, to about 1e-16 relative; the query then carries a
+    number instead of the rational functions.
+    """
+    from statistics import NormalDist
+
+    p = float(p)
+    if not 0.0 < p < 1.0:
+        return "NULL"
+    return _literal(NormalDist().inv_cdf(p))
+
+
 @lru_cache(maxsize=1)
 def template_context() -> dict:
     """Constants the distribution macros need, to merge into a template's render context.
@@ -79,6 +94,7 @@ def template_context() -> dict:
     ls, lw = np.polynomial.laguerre.laggauss(LAGUERRE_NODES)
     tail_nodes = [{"lw": _literal(math.log(w_i)), "c": _literal(s_i * s_i / 2.0)} for s_i, w_i in zip(ls, lw)]
     return {
+        "normal_quantile_literal": normal_quantile_literal,
         "distribution_nodes": nodes,
         "normal_tail_nodes": tail_nodes,
         "chisq_terms": terms,

@@ -1,0 +1,740 @@
+WITH `assigned_units` AS (
+  SELECT
+    `member_id` AS `unit_id`,
+    MIN(CAST(`arm` AS STRING)) AS `arm_label`,
+    MAX(CAST(`arm` AS STRING)) AS `arm_label_last`
+  FROM `lab`.`assignments` AS `assignment_rows`
+  GROUP BY
+    `member_id`
+), `unit_events` AS (
+  SELECT
+    `member_id` AS `unit_id`,
+    SUM(CAST(`amount` AS FLOAT64)) AS `raw_0`,
+    CASE WHEN COUNT(*) > 0 THEN 1 ELSE 0 END AS `raw_1`,
+    SUM(CAST(`amount` AS FLOAT64)) AS `raw_2`,
+    COUNT(*) AS `raw_3`
+  FROM `lab`.`events` AS `event_rows`
+  GROUP BY
+    `member_id`
+), `unit_joined` AS (
+  SELECT
+    `a`.`unit_id`,
+    `a`.`arm_label`,
+    `a`.`arm_label_last`,
+    `e`.`raw_0`,
+    `e`.`raw_1`,
+    `e`.`raw_2`,
+    `e`.`raw_3`
+  FROM `assigned_units` AS `a`
+  LEFT JOIN `unit_events` AS `e`
+    ON `a`.`unit_id` = `e`.`unit_id`
+), `unit_values` AS (
+  SELECT
+    CASE WHEN `arm_label` = `arm_label_last` THEN `arm_label` END AS `arm_label`,
+    COALESCE(CAST(`raw_0` AS FLOAT64), 0.0) AS `v_0`,
+    COALESCE(CAST(`raw_1` AS FLOAT64), 0.0) AS `v_1`,
+    COALESCE(CAST(`raw_2` AS FLOAT64), 0.0) AS `v_2`,
+    COALESCE(CAST(`raw_3` AS FLOAT64), 0.0) AS `v_3`
+  FROM `unit_joined`
+), `unit_centred` AS (
+  SELECT
+    `arm_label`,
+    `v_0`,
+    `v_0` - AVG(`v_0`) OVER (PARTITION BY `arm_label`) AS `d_0`,
+    `v_1`,
+    `v_1` - AVG(`v_1`) OVER (PARTITION BY `arm_label`) AS `d_1`,
+    `v_2`,
+    `v_2` - AVG(`v_2`) OVER (PARTITION BY `arm_label`) AS `d_2`,
+    `v_3`,
+    `v_3` - AVG(`v_3`) OVER (PARTITION BY `arm_label`) AS `d_3`
+  FROM `unit_values`
+), `arm_stats` AS (
+  SELECT
+    `arm_label`,
+    0 AS `segment_index`,
+    CAST(NULL AS STRING) AS `segment`,
+    '(all)' AS `segment_value`,
+    CAST(COUNT(*) AS FLOAT64) AS `units`,
+    CAST(COUNT(`v_0`) AS FLOAT64) AS `n_0`,
+    AVG(`v_0`) AS `mean_0`,
+    (
+      SUM(`d_0` * `d_0`) - SUM(`d_0`) * SUM(`d_0`) / NULLIF(CAST(COUNT(`d_0`) AS FLOAT64), 0)
+    ) / NULLIF(CAST(COUNT(`d_0`) AS FLOAT64) - 1, 0) AS `variance_0`,
+    CAST(COUNT(`v_1`) AS FLOAT64) AS `n_1`,
+    AVG(`v_1`) AS `mean_1`,
+    (
+      SUM(`d_1` * `d_1`) - SUM(`d_1`) * SUM(`d_1`) / NULLIF(CAST(COUNT(`d_1`) AS FLOAT64), 0)
+    ) / NULLIF(CAST(COUNT(`d_1`) AS FLOAT64) - 1, 0) AS `variance_1`,
+    CAST(SUM(CASE WHEN `v_1` IS NULL OR `v_1` = 0 OR `v_1` = 1 THEN 0 ELSE 1 END) AS FLOAT64) AS `invalid_1`,
+    CAST(COUNT(`v_2`) AS FLOAT64) AS `n_2`,
+    AVG(`v_2`) AS `mean_2`,
+    (
+      SUM(`d_2` * `d_2`) - SUM(`d_2`) * SUM(`d_2`) / NULLIF(CAST(COUNT(`d_2`) AS FLOAT64), 0)
+    ) / NULLIF(CAST(COUNT(`d_2`) AS FLOAT64) - 1, 0) AS `variance_2`,
+    CAST(COUNT(`v_3`) AS FLOAT64) AS `n_3`,
+    AVG(`v_3`) AS `mean_3`,
+    (
+      SUM(`d_3` * `d_3`) - SUM(`d_3`) * SUM(`d_3`) / NULLIF(CAST(COUNT(`d_3`) AS FLOAT64), 0)
+    ) / NULLIF(CAST(COUNT(`d_3`) AS FLOAT64) - 1, 0) AS `variance_3`,
+    (
+      SUM(`d_2` * `d_3`) - SUM(`d_2`) * SUM(`d_3`) / NULLIF(CAST(COUNT(`d_2` * `d_3`) AS FLOAT64), 0)
+    ) / NULLIF(CAST(COUNT(`d_2` * `d_3`) AS FLOAT64) - 1, 0) AS `covariance_2_3`
+  FROM `unit_centred`
+  GROUP BY
+    `arm_label`
+), `metric_list` AS (
+  SELECT
+    0 AS `metric_index`,
+    'spend' AS `metric`,
+    'mean' AS `kind`,
+    'primary' AS `role`,
+    'welch_t' AS `method`,
+    CAST(NULL AS FLOAT64) AS `sigma`,
+    'higher' AS `direction`,
+    CAST(NULL AS FLOAT64) AS `margin`,
+    CAST(NULL AS FLOAT64) AS `relative_margin`,
+    CAST(NULL AS FLOAT64) AS `target`
+  UNION ALL
+  SELECT
+    1 AS `metric_index`,
+    'bought' AS `metric`,
+    'proportion' AS `kind`,
+    'guardrail' AS `role`,
+    'two_proportion_z' AS `method`,
+    CAST(NULL AS FLOAT64) AS `sigma`,
+    'higher' AS `direction`,
+    CAST(NULL AS FLOAT64) AS `margin`,
+    CAST(0.05 AS FLOAT64) AS `relative_margin`,
+    CAST(NULL AS FLOAT64) AS `target`
+  UNION ALL
+  SELECT
+    2 AS `metric_index`,
+    'spend_per_event' AS `metric`,
+    'ratio' AS `kind`,
+    'secondary' AS `role`,
+    'ratio_delta_z' AS `method`,
+    CAST(NULL AS FLOAT64) AS `sigma`,
+    CAST(NULL AS STRING) AS `direction`,
+    CAST(NULL AS FLOAT64) AS `margin`,
+    CAST(NULL AS FLOAT64) AS `relative_margin`,
+    CAST(NULL AS FLOAT64) AS `target`
+), `per_arm` AS (
+  SELECT
+    `m`.`metric_index`,
+    `m`.`metric`,
+    `m`.`kind`,
+    `m`.`role`,
+    `m`.`method`,
+    `m`.`sigma`,
+    `m`.`direction`,
+    `m`.`margin`,
+    `m`.`relative_margin`,
+    `m`.`target`,
+    `s`.`segment_index`,
+    `s`.`segment`,
+    `s`.`segment_value`,
+    `s`.`arm_label` AS `arm`,
+    `s`.`units`,
+    CASE `m`.`metric_index`
+      WHEN 0
+      THEN `s`.`n_0`
+      WHEN 1
+      THEN `s`.`n_1`
+      WHEN 2
+      THEN `s`.`n_2`
+    END AS `n`,
+    CASE `m`.`metric_index`
+      WHEN 0
+      THEN `s`.`mean_0` * `s`.`n_0`
+      WHEN 1
+      THEN `s`.`mean_1` * `s`.`n_1`
+      WHEN 2
+      THEN `s`.`mean_2` * `s`.`n_2`
+    END AS `total`,
+    CASE `m`.`metric_index`
+      WHEN 0
+      THEN `s`.`mean_0`
+      WHEN 1
+      THEN `s`.`mean_1`
+      WHEN 2
+      THEN `s`.`mean_2`
+    END AS `mean`,
+    CASE `m`.`metric_index`
+      WHEN 0
+      THEN `s`.`variance_0`
+      WHEN 1
+      THEN `s`.`variance_1`
+      WHEN 2
+      THEN `s`.`variance_2`
+    END AS `variance`,
+    CASE `m`.`metric_index`
+      WHEN 0
+      THEN CAST(0 AS FLOAT64)
+      WHEN 1
+      THEN `s`.`invalid_1`
+      WHEN 2
+      THEN CAST(0 AS FLOAT64)
+    END AS `invalid`,
+    CASE `m`.`metric_index` WHEN 2 THEN `s`.`n_3` END AS `x_n`,
+    CASE `m`.`metric_index` WHEN 2 THEN `s`.`mean_3` * `s`.`n_3` END AS `x_total`,
+    CASE `m`.`metric_index` WHEN 2 THEN `s`.`mean_3` END AS `x_mean`,
+    CASE `m`.`metric_index` WHEN 2 THEN `s`.`variance_3` END AS `x_variance`,
+    CASE `m`.`metric_index` WHEN 2 THEN `s`.`covariance_2_3` END AS `xy_covariance`
+  FROM `arm_stats` AS `s`
+  CROSS JOIN `metric_list` AS `m`
+), `with_control` AS (
+  SELECT
+    `metric_index`,
+    `metric`,
+    `kind`,
+    `role`,
+    `method`,
+    `sigma`,
+    `direction`,
+    `margin`,
+    `relative_margin`,
+    `target`,
+    `segment_index`,
+    `segment`,
+    `segment_value`,
+    `arm`,
+    CASE WHEN `arm` = 'control' THEN 1 ELSE 0 END AS `is_control`,
+    `units`,
+    SUM(CASE WHEN `arm` IS NULL THEN `units` ELSE 0 END) OVER (PARTITION BY `metric_index`, `segment_index`, `segment_value`) AS `excluded_units`,
+    `n`,
+    `total`,
+    `mean`,
+    `variance`,
+    `invalid`,
+    `x_n`,
+    `x_total`,
+    `x_mean`,
+    `x_variance`,
+    `xy_covariance`,
+    MAX(CASE WHEN `arm` = 'control' THEN `n` END) OVER (PARTITION BY `metric_index`, `segment_index`, `segment_value`) AS `control_n`,
+    MAX(CASE WHEN `arm` = 'control' THEN `total` END) OVER (PARTITION BY `metric_index`, `segment_index`, `segment_value`) AS `control_total`,
+    MAX(CASE WHEN `arm` = 'control' THEN `mean` END) OVER (PARTITION BY `metric_index`, `segment_index`, `segment_value`) AS `control_mean`,
+    MAX(CASE WHEN `arm` = 'control' THEN `variance` END) OVER (PARTITION BY `metric_index`, `segment_index`, `segment_value`) AS `control_variance`,
+    MAX(CASE WHEN `arm` = 'control' THEN `x_n` END) OVER (PARTITION BY `metric_index`, `segment_index`, `segment_value`) AS `control_x_n`,
+    MAX(CASE WHEN `arm` = 'control' THEN `x_total` END) OVER (PARTITION BY `metric_index`, `segment_index`, `segment_value`) AS `control_x_total`,
+    MAX(CASE WHEN `arm` = 'control' THEN `x_mean` END) OVER (PARTITION BY `metric_index`, `segment_index`, `segment_value`) AS `control_x_mean`,
+    MAX(CASE WHEN `arm` = 'control' THEN `x_variance` END) OVER (PARTITION BY `metric_index`, `segment_index`, `segment_value`) AS `control_x_variance`,
+    MAX(CASE WHEN `arm` = 'control' THEN `xy_covariance` END) OVER (PARTITION BY `metric_index`, `segment_index`, `segment_value`) AS `control_xy_covariance`
+  FROM `per_arm`
+), `arm_values` AS (
+  SELECT
+    *,
+    1.0 / NULLIF(`n`, 0) AS `inv_n`,
+    1.0 / NULLIF(`control_n`, 0) AS `inv_control_n`,
+    CASE WHEN `kind` = 'ratio' THEN `total` / NULLIF(`x_total`, 0) ELSE `mean` END AS `value`,
+    CASE
+      WHEN `kind` = 'ratio'
+      THEN `control_total` / NULLIF(`control_x_total`, 0)
+      ELSE `control_mean`
+    END AS `control_value`,
+    CASE
+      WHEN `kind` = 'ratio'
+      THEN (
+        `n` - 1
+      ) * (
+        `variance` - 2 * (
+          `total` / NULLIF(`x_total`, 0)
+        ) * `xy_covariance` + (
+          `total` / NULLIF(`x_total`, 0)
+        ) * (
+          `total` / NULLIF(`x_total`, 0)
+        ) * `x_variance`
+      ) / NULLIF(`x_total` * `x_total`, 0)
+      ELSE `variance` / NULLIF(`n`, 0)
+    END AS `value_variance`,
+    CASE
+      WHEN `kind` = 'ratio'
+      THEN (
+        `control_n` - 1
+      ) * (
+        `control_variance` - 2 * (
+          `control_total` / NULLIF(`control_x_total`, 0)
+        ) * `control_xy_covariance` + (
+          `control_total` / NULLIF(`control_x_total`, 0)
+        ) * (
+          `control_total` / NULLIF(`control_x_total`, 0)
+        ) * `control_x_variance`
+      ) / NULLIF(`control_x_total` * `control_x_total`, 0)
+      ELSE `control_variance` / NULLIF(`control_n`, 0)
+    END AS `control_value_variance`,
+    (
+      `total` + `control_total`
+    ) / NULLIF(`n` + `control_n`, 0) AS `pooled_mean`,
+    (
+      (
+        `n` - 1
+      ) * `variance` + (
+        `control_n` - 1
+      ) * `control_variance`
+    ) / NULLIF(`n` + `control_n` - 2, 0) AS `pooled_variance`,
+    CASE
+      WHEN `method` = 'cuped_welch_t'
+      THEN (
+        (
+          `n` - 1
+        ) * `xy_covariance` + (
+          `control_n` - 1
+        ) * `control_xy_covariance`
+      ) / NULLIF((
+        `n` - 1
+      ) * `x_variance` + (
+        `control_n` - 1
+      ) * `control_x_variance`, 0)
+    END AS `theta`,
+    CASE
+      WHEN `method` = 'cuped_welch_t'
+      THEN COALESCE(`xy_covariance` / NULLIF(`x_variance`, 0), 0)
+    END AS `arm_theta`,
+    CASE
+      WHEN `method` = 'cuped_welch_t'
+      THEN COALESCE(`control_xy_covariance` / NULLIF(`control_x_variance`, 0), 0)
+    END AS `control_arm_theta`,
+    CASE
+      WHEN `method` = 'cuped_welch_t'
+      THEN (
+        `n` * `x_mean` + `control_n` * `control_x_mean`
+      ) / NULLIF(`n` + `control_n`, 0)
+    END AS `pooled_x_mean`
+  FROM `with_control`
+  WHERE
+    NOT `arm` IS NULL
+), `adjusted` AS (
+  SELECT
+    *,
+    CASE
+      WHEN `method` = 'cuped_welch_t'
+      THEN (
+        `n` - 1
+      ) * (
+        `variance` - `arm_theta` * `xy_covariance`
+      ) / NULLIF(`n` - 2, 0) * (
+        `inv_n` + CASE
+          WHEN `x_variance` > 0
+          THEN (
+            `x_mean` - `pooled_x_mean`
+          ) * (
+            `x_mean` - `pooled_x_mean`
+          ) / (
+            (
+              `n` - 1
+            ) * `x_variance`
+          )
+          ELSE 0
+        END
+      )
+    END AS `adjusted_variance_of_mean`,
+    CASE
+      WHEN `method` = 'cuped_welch_t'
+      THEN (
+        `control_n` - 1
+      ) * (
+        `control_variance` - `control_arm_theta` * `control_xy_covariance`
+      ) / NULLIF(`control_n` - 2, 0) * (
+        `inv_control_n` + CASE
+          WHEN `control_x_variance` > 0
+          THEN (
+            `control_x_mean` - `pooled_x_mean`
+          ) * (
+            `control_x_mean` - `pooled_x_mean`
+          ) / (
+            (
+              `control_n` - 1
+            ) * `control_x_variance`
+          )
+          ELSE 0
+        END
+      )
+    END AS `control_adjusted_variance_of_mean`
+  FROM `arm_values`
+), `compared` AS (
+  SELECT
+    *,
+    CASE WHEN `is_control` = 0 THEN `value` - `control_value` END AS `difference`,
+    CASE
+      WHEN `is_control` = 1
+      THEN NULL
+      WHEN `method` = 'cuped_welch_t'
+      THEN (
+        `mean` - `arm_theta` * (
+          `x_mean` - `pooled_x_mean`
+        )
+      ) - (
+        `control_mean` - `control_arm_theta` * (
+          `control_x_mean` - `pooled_x_mean`
+        )
+      )
+      ELSE `value` - `control_value`
+    END AS `estimate`,
+    CASE
+      WHEN `is_control` = 1
+      THEN NULL
+      WHEN `method` = 'two_proportion_z'
+      THEN SQRT(
+        CASE
+          WHEN `mean` * (
+            1 - `mean`
+          ) * `inv_n` + `control_mean` * (
+            1 - `control_mean`
+          ) * `inv_control_n` < 0
+          THEN NULL
+          ELSE `mean` * (
+            1 - `mean`
+          ) * `inv_n` + `control_mean` * (
+            1 - `control_mean`
+          ) * `inv_control_n`
+        END
+      )
+      WHEN `method` = 'z_known_sigma'
+      THEN `sigma` * SQRT(`inv_n` + `inv_control_n`)
+      WHEN `method` = 'student_t'
+      THEN SQRT(
+        CASE
+          WHEN `pooled_variance` * (
+            `inv_n` + `inv_control_n`
+          ) < 0
+          THEN NULL
+          ELSE `pooled_variance` * (
+            `inv_n` + `inv_control_n`
+          )
+        END
+      )
+      WHEN `method` = 'cuped_welch_t'
+      THEN SQRT(
+        CASE
+          WHEN `adjusted_variance_of_mean` + `control_adjusted_variance_of_mean` < 0
+          THEN NULL
+          ELSE `adjusted_variance_of_mean` + `control_adjusted_variance_of_mean`
+        END
+      )
+      ELSE SQRT(
+        CASE
+          WHEN `value_variance` + `control_value_variance` < 0
+          THEN NULL
+          ELSE `value_variance` + `control_value_variance`
+        END
+      )
+    END AS `std_error`,
+    CASE
+      WHEN `is_control` = 1
+      THEN NULL
+      WHEN `method` = 'two_proportion_z'
+      THEN SQRT(
+        CASE
+          WHEN `pooled_mean` * (
+            1 - `pooled_mean`
+          ) * (
+            `inv_n` + `inv_control_n`
+          ) < 0
+          THEN NULL
+          ELSE `pooled_mean` * (
+            1 - `pooled_mean`
+          ) * (
+            `inv_n` + `inv_control_n`
+          )
+        END
+      )
+      WHEN `method` = 'z_known_sigma'
+      THEN `sigma` * SQRT(`inv_n` + `inv_control_n`)
+      WHEN `method` = 'student_t'
+      THEN SQRT(
+        CASE
+          WHEN `pooled_variance` * (
+            `inv_n` + `inv_control_n`
+          ) < 0
+          THEN NULL
+          ELSE `pooled_variance` * (
+            `inv_n` + `inv_control_n`
+          )
+        END
+      )
+      WHEN `method` = 'cuped_welch_t'
+      THEN SQRT(
+        CASE
+          WHEN `adjusted_variance_of_mean` + `control_adjusted_variance_of_mean` < 0
+          THEN NULL
+          ELSE `adjusted_variance_of_mean` + `control_adjusted_variance_of_mean`
+        END
+      )
+      ELSE SQRT(
+        CASE
+          WHEN `value_variance` + `control_value_variance` < 0
+          THEN NULL
+          ELSE `value_variance` + `control_value_variance`
+        END
+      )
+    END AS `null_std_error`,
+    CASE
+      WHEN `is_control` = 1
+      THEN NULL
+      WHEN `method` = 'welch_t'
+      THEN (
+        `value_variance` + `control_value_variance`
+      ) * (
+        `value_variance` + `control_value_variance`
+      ) / NULLIF(
+        `value_variance` * `value_variance` / NULLIF(`n` - 1, 0) + `control_value_variance` * `control_value_variance` / NULLIF(`control_n` - 1, 0),
+        0
+      )
+      WHEN `method` = 'cuped_welch_t'
+      THEN (
+        `adjusted_variance_of_mean` + `control_adjusted_variance_of_mean`
+      ) * (
+        `adjusted_variance_of_mean` + `control_adjusted_variance_of_mean`
+      ) / NULLIF(
+        `adjusted_variance_of_mean` * `adjusted_variance_of_mean` / NULLIF(`n` - 2, 0) + `control_adjusted_variance_of_mean` * `control_adjusted_variance_of_mean` / NULLIF(`control_n` - 2, 0),
+        0
+      )
+      WHEN `method` = 'student_t'
+      THEN NULLIF(`n` + `control_n` - 2, 0)
+    END AS `df`,
+    CASE
+      WHEN `method` = 'cuped_welch_t' AND `is_control` = 0
+      THEN 1 - (
+        `adjusted_variance_of_mean` + `control_adjusted_variance_of_mean`
+      ) / NULLIF(`variance` / NULLIF(`n`, 0) + `control_variance` / NULLIF(`control_n`, 0), 0)
+    END AS `variance_reduction`,
+    CASE
+      WHEN `target` IS NULL
+      THEN NULL
+      WHEN `kind` = 'proportion'
+      THEN (
+        `value` - `target`
+      ) / NULLIF(SQRT(`target` * (
+        1 - `target`
+      ) * `inv_n`), 0)
+      ELSE (
+        `value` - `target`
+      ) / NULLIF(SQRT(CASE WHEN `value_variance` < 0 THEN NULL ELSE `value_variance` END), 0)
+    END AS `target_statistic`,
+    CASE WHEN NOT `target` IS NULL AND `kind` = 'mean' THEN `n` - 1 END AS `target_df`
+  FROM `adjusted`
+), `lift_terms` AS (
+  SELECT
+    *,
+    CASE
+      WHEN `method` = 'two_proportion_z'
+      THEN `control_mean` * (
+        1 - `control_mean`
+      ) * `inv_control_n`
+      WHEN `method` = 'z_known_sigma'
+      THEN `sigma` * `sigma` * `inv_control_n`
+      WHEN `method` = 'student_t'
+      THEN `pooled_variance` * `inv_control_n`
+      ELSE `control_value_variance`
+    END AS `lift_control_variance`,
+    CASE
+      WHEN `method` = 'cuped_welch_t'
+      THEN (
+        `control_variance` - (
+          `control_arm_theta` + (
+            `arm_theta` - `control_arm_theta`
+          ) * `control_n` / NULLIF(`n` + `control_n`, 0)
+        ) * `control_xy_covariance`
+      ) * `inv_control_n`
+    END AS `cuped_control_covariance`
+  FROM `compared`
+), `lifted` AS (
+  SELECT
+    *,
+    `estimate` / NULLIF(`control_value`, 0) AS `relative_lift`,
+    SQRT(
+      CASE
+        WHEN `std_error` * `std_error` / NULLIF(`control_value` * `control_value`, 0) + `estimate` * `estimate` * `lift_control_variance` / NULLIF(`control_value` * `control_value` * `control_value` * `control_value`, 0) + 2 * `estimate` * CASE
+          WHEN `method` = 'cuped_welch_t'
+          THEN `cuped_control_covariance`
+          ELSE `lift_control_variance`
+        END / NULLIF(`control_value` * `control_value` * `control_value`, 0) < 0
+        THEN NULL
+        ELSE `std_error` * `std_error` / NULLIF(`control_value` * `control_value`, 0) + `estimate` * `estimate` * `lift_control_variance` / NULLIF(`control_value` * `control_value` * `control_value` * `control_value`, 0) + 2 * `estimate` * CASE
+          WHEN `method` = 'cuped_welch_t'
+          THEN `cuped_control_covariance`
+          ELSE `lift_control_variance`
+        END / NULLIF(`control_value` * `control_value` * `control_value`, 0)
+      END
+    ) AS `lift_std_error`
+  FROM `lift_terms`
+), `sequential` AS (
+  SELECT
+    *,
+    0.05 * 0.05 * `control_value` * `control_value` AS `mixing_variance`,
+    `std_error` * `std_error` AS `sequential_variance`
+  FROM `lifted`
+), `monitored` AS (
+  SELECT
+    *,
+    CASE
+      WHEN `sequential_variance` > 0 AND `mixing_variance` > 0
+      THEN 0.5 * LN(`sequential_variance` / (
+        `sequential_variance` + `mixing_variance`
+      )) + `mixing_variance` * `estimate` * `estimate` / (
+        2 * `sequential_variance` * (
+          `sequential_variance` + `mixing_variance`
+        )
+      )
+    END AS `log_likelihood_ratio`,
+    CASE
+      WHEN `sequential_variance` > 0 AND `mixing_variance` > 0
+      THEN SQRT(
+        `sequential_variance` * (
+          `sequential_variance` + `mixing_variance`
+        ) / `mixing_variance` * (
+          2 * LN(1 / 0.05) + LN((
+            `sequential_variance` + `mixing_variance`
+          ) / `sequential_variance`)
+        )
+      )
+    END AS `sequence_half_width`
+  FROM `sequential`
+), `monitored_p` AS (
+  SELECT
+    *,
+    CASE
+      WHEN `log_likelihood_ratio` IS NULL
+      THEN NULL
+      WHEN `log_likelihood_ratio` <= 0
+      THEN 1.0
+      WHEN `log_likelihood_ratio` > 700
+      THEN 0.0
+      ELSE EXP(-`log_likelihood_ratio`)
+    END AS `sequential_p_value`
+  FROM `monitored`
+), `result` AS (
+  SELECT
+    `metric_index`,
+    `metric`,
+    `kind`,
+    `role`,
+    `method`,
+    `segment_index`,
+    `segment`,
+    `segment_value`,
+    `arm`,
+    `is_control`,
+    `units`,
+    `excluded_units`,
+    `n`,
+    `total`,
+    `mean`,
+    `variance`,
+    `invalid`,
+    `x_n`,
+    `x_total`,
+    `x_mean`,
+    `x_variance`,
+    `xy_covariance`,
+    `value`,
+    SQRT(`value_variance`) AS `value_std_error`,
+    `control_n`,
+    `control_total`,
+    `control_mean`,
+    `control_variance`,
+    `control_value`,
+    SQRT(`control_value_variance`) AS `control_value_std_error`,
+    `difference`,
+    `estimate`,
+    `std_error`,
+    `null_std_error`,
+    `estimate` / NULLIF(`null_std_error`, 0) AS `statistic`,
+    `df`,
+    `theta`,
+    `variance_reduction`,
+    `relative_lift`,
+    `lift_std_error`,
+    `direction`,
+    `margin`,
+    `relative_margin`,
+    CASE
+      WHEN `is_control` = 1
+      THEN NULL
+      WHEN NOT `margin` IS NULL AND `direction` = 'higher'
+      THEN (
+        `estimate` + `margin`
+      ) / NULLIF(`std_error`, 0)
+      WHEN NOT `margin` IS NULL AND `direction` = 'lower'
+      THEN (
+        `margin` - `estimate`
+      ) / NULLIF(`std_error`, 0)
+      WHEN NOT `relative_margin` IS NULL AND `direction` = 'higher'
+      THEN (
+        `relative_lift` + `relative_margin`
+      ) / NULLIF(`lift_std_error`, 0)
+      WHEN NOT `relative_margin` IS NULL AND `direction` = 'lower'
+      THEN (
+        `relative_margin` - `relative_lift`
+      ) / NULLIF(`lift_std_error`, 0)
+    END AS `margin_statistic`,
+    `target`,
+    `target_statistic`,
+    `target_df`,
+    `arm_theta` AS `theta_treatment`,
+    `control_arm_theta` AS `theta_control`,
+    `sequential_p_value` AS `always_valid_p_value`,
+    `estimate` - `sequence_half_width` AS `sequence_low`,
+    `estimate` + `sequence_half_width` AS `sequence_high`
+  FROM `monitored_p`
+)
+SELECT
+  `metric_index`,
+  `metric`,
+  `kind`,
+  `role`,
+  `method`,
+  `segment_index`,
+  `segment`,
+  `segment_value`,
+  `arm`,
+  `is_control`,
+  `units`,
+  `excluded_units`,
+  `n`,
+  `total`,
+  `mean`,
+  `variance`,
+  `invalid`,
+  `x_n`,
+  `x_total`,
+  `x_mean`,
+  `x_variance`,
+  `xy_covariance`,
+  `value`,
+  `value_std_error`,
+  `control_n`,
+  `control_total`,
+  `control_mean`,
+  `control_variance`,
+  `control_value`,
+  `control_value_std_error`,
+  `difference`,
+  `estimate`,
+  `std_error`,
+  `null_std_error`,
+  `statistic`,
+  `df`,
+  `theta`,
+  `variance_reduction`,
+  `relative_lift`,
+  `lift_std_error`,
+  `direction`,
+  `margin`,
+  `relative_margin`,
+  `margin_statistic`,
+  `target`,
+  `target_statistic`,
+  `target_df`,
+  `theta_treatment`,
+  `theta_control`,
+  `always_valid_p_value`,
+  `sequence_low`,
+  `sequence_high`
+FROM `result`
+ORDER BY
+  `metric_index` NULLS LAST,
+  `segment_index` NULLS LAST,
+  `segment_value` NULLS LAST,
+  `is_control` DESC,
+  `arm` NULLS LAST

@@ -1,0 +1,740 @@
+WITH "ASSIGNED_UNITS" AS (
+  SELECT
+    "MEMBER_ID" AS "UNIT_ID",
+    MIN(CAST("ARM" AS VARCHAR)) AS "ARM_LABEL",
+    MAX(CAST("ARM" AS VARCHAR)) AS "ARM_LABEL_LAST"
+  FROM "LAB"."ASSIGNMENTS" AS "ASSIGNMENT_ROWS"
+  GROUP BY
+    "MEMBER_ID"
+), "UNIT_EVENTS" AS (
+  SELECT
+    "MEMBER_ID" AS "UNIT_ID",
+    SUM(CAST("AMOUNT" AS DOUBLE)) AS "RAW_0",
+    CASE WHEN COUNT(*) > 0 THEN 1 ELSE 0 END AS "RAW_1",
+    SUM(CAST("AMOUNT" AS DOUBLE)) AS "RAW_2",
+    COUNT(*) AS "RAW_3"
+  FROM "LAB"."EVENTS" AS "EVENT_ROWS"
+  GROUP BY
+    "MEMBER_ID"
+), "UNIT_JOINED" AS (
+  SELECT
+    "A"."UNIT_ID",
+    "A"."ARM_LABEL",
+    "A"."ARM_LABEL_LAST",
+    "E"."RAW_0",
+    "E"."RAW_1",
+    "E"."RAW_2",
+    "E"."RAW_3"
+  FROM "ASSIGNED_UNITS" AS "A"
+  LEFT JOIN "UNIT_EVENTS" AS "E"
+    ON "A"."UNIT_ID" = "E"."UNIT_ID"
+), "UNIT_VALUES" AS (
+  SELECT
+    CASE WHEN "ARM_LABEL" = "ARM_LABEL_LAST" THEN "ARM_LABEL" END AS "ARM_LABEL",
+    COALESCE(CAST("RAW_0" AS DOUBLE), 0.0) AS "V_0",
+    COALESCE(CAST("RAW_1" AS DOUBLE), 0.0) AS "V_1",
+    COALESCE(CAST("RAW_2" AS DOUBLE), 0.0) AS "V_2",
+    COALESCE(CAST("RAW_3" AS DOUBLE), 0.0) AS "V_3"
+  FROM "UNIT_JOINED"
+), "UNIT_CENTRED" AS (
+  SELECT
+    "ARM_LABEL",
+    "V_0",
+    "V_0" - AVG("V_0") OVER (PARTITION BY "ARM_LABEL") AS "D_0",
+    "V_1",
+    "V_1" - AVG("V_1") OVER (PARTITION BY "ARM_LABEL") AS "D_1",
+    "V_2",
+    "V_2" - AVG("V_2") OVER (PARTITION BY "ARM_LABEL") AS "D_2",
+    "V_3",
+    "V_3" - AVG("V_3") OVER (PARTITION BY "ARM_LABEL") AS "D_3"
+  FROM "UNIT_VALUES"
+), "ARM_STATS" AS (
+  SELECT
+    "ARM_LABEL",
+    0 AS "SEGMENT_INDEX",
+    CAST(NULL AS VARCHAR) AS "SEGMENT",
+    '(all)' AS "SEGMENT_VALUE",
+    CAST(COUNT(*) AS DOUBLE) AS "UNITS",
+    CAST(COUNT("V_0") AS DOUBLE) AS "N_0",
+    AVG("V_0") AS "MEAN_0",
+    (
+      SUM("D_0" * "D_0") - SUM("D_0") * SUM("D_0") / NULLIF(CAST(COUNT("D_0") AS DOUBLE), 0)
+    ) / NULLIF(CAST(COUNT("D_0") AS DOUBLE) - 1, 0) AS "VARIANCE_0",
+    CAST(COUNT("V_1") AS DOUBLE) AS "N_1",
+    AVG("V_1") AS "MEAN_1",
+    (
+      SUM("D_1" * "D_1") - SUM("D_1") * SUM("D_1") / NULLIF(CAST(COUNT("D_1") AS DOUBLE), 0)
+    ) / NULLIF(CAST(COUNT("D_1") AS DOUBLE) - 1, 0) AS "VARIANCE_1",
+    CAST(SUM(CASE WHEN "V_1" IS NULL OR "V_1" = 0 OR "V_1" = 1 THEN 0 ELSE 1 END) AS DOUBLE) AS "INVALID_1",
+    CAST(COUNT("V_2") AS DOUBLE) AS "N_2",
+    AVG("V_2") AS "MEAN_2",
+    (
+      SUM("D_2" * "D_2") - SUM("D_2") * SUM("D_2") / NULLIF(CAST(COUNT("D_2") AS DOUBLE), 0)
+    ) / NULLIF(CAST(COUNT("D_2") AS DOUBLE) - 1, 0) AS "VARIANCE_2",
+    CAST(COUNT("V_3") AS DOUBLE) AS "N_3",
+    AVG("V_3") AS "MEAN_3",
+    (
+      SUM("D_3" * "D_3") - SUM("D_3") * SUM("D_3") / NULLIF(CAST(COUNT("D_3") AS DOUBLE), 0)
+    ) / NULLIF(CAST(COUNT("D_3") AS DOUBLE) - 1, 0) AS "VARIANCE_3",
+    (
+      SUM("D_2" * "D_3") - SUM("D_2") * SUM("D_3") / NULLIF(CAST(COUNT("D_2" * "D_3") AS DOUBLE), 0)
+    ) / NULLIF(CAST(COUNT("D_2" * "D_3") AS DOUBLE) - 1, 0) AS "COVARIANCE_2_3"
+  FROM "UNIT_CENTRED"
+  GROUP BY
+    "ARM_LABEL"
+), "METRIC_LIST" AS (
+  SELECT
+    0 AS "METRIC_INDEX",
+    'spend' AS "METRIC",
+    'mean' AS "KIND",
+    'primary' AS "ROLE",
+    'welch_t' AS "METHOD",
+    CAST(NULL AS DOUBLE) AS "SIGMA",
+    'higher' AS "DIRECTION",
+    CAST(NULL AS DOUBLE) AS "MARGIN",
+    CAST(NULL AS DOUBLE) AS "RELATIVE_MARGIN",
+    CAST(NULL AS DOUBLE) AS "TARGET"
+  UNION ALL
+  SELECT
+    1 AS "METRIC_INDEX",
+    'bought' AS "METRIC",
+    'proportion' AS "KIND",
+    'guardrail' AS "ROLE",
+    'two_proportion_z' AS "METHOD",
+    CAST(NULL AS DOUBLE) AS "SIGMA",
+    'higher' AS "DIRECTION",
+    CAST(NULL AS DOUBLE) AS "MARGIN",
+    CAST(0.05 AS DOUBLE) AS "RELATIVE_MARGIN",
+    CAST(NULL AS DOUBLE) AS "TARGET"
+  UNION ALL
+  SELECT
+    2 AS "METRIC_INDEX",
+    'spend_per_event' AS "METRIC",
+    'ratio' AS "KIND",
+    'secondary' AS "ROLE",
+    'ratio_delta_z' AS "METHOD",
+    CAST(NULL AS DOUBLE) AS "SIGMA",
+    CAST(NULL AS VARCHAR) AS "DIRECTION",
+    CAST(NULL AS DOUBLE) AS "MARGIN",
+    CAST(NULL AS DOUBLE) AS "RELATIVE_MARGIN",
+    CAST(NULL AS DOUBLE) AS "TARGET"
+), "PER_ARM" AS (
+  SELECT
+    "M"."METRIC_INDEX",
+    "M"."METRIC",
+    "M"."KIND",
+    "M"."ROLE",
+    "M"."METHOD",
+    "M"."SIGMA",
+    "M"."DIRECTION",
+    "M"."MARGIN",
+    "M"."RELATIVE_MARGIN",
+    "M"."TARGET",
+    "S"."SEGMENT_INDEX",
+    "S"."SEGMENT",
+    "S"."SEGMENT_VALUE",
+    "S"."ARM_LABEL" AS "ARM",
+    "S"."UNITS",
+    CASE "M"."METRIC_INDEX"
+      WHEN 0
+      THEN "S"."N_0"
+      WHEN 1
+      THEN "S"."N_1"
+      WHEN 2
+      THEN "S"."N_2"
+    END AS "N",
+    CASE "M"."METRIC_INDEX"
+      WHEN 0
+      THEN "S"."MEAN_0" * "S"."N_0"
+      WHEN 1
+      THEN "S"."MEAN_1" * "S"."N_1"
+      WHEN 2
+      THEN "S"."MEAN_2" * "S"."N_2"
+    END AS "TOTAL",
+    CASE "M"."METRIC_INDEX"
+      WHEN 0
+      THEN "S"."MEAN_0"
+      WHEN 1
+      THEN "S"."MEAN_1"
+      WHEN 2
+      THEN "S"."MEAN_2"
+    END AS "MEAN",
+    CASE "M"."METRIC_INDEX"
+      WHEN 0
+      THEN "S"."VARIANCE_0"
+      WHEN 1
+      THEN "S"."VARIANCE_1"
+      WHEN 2
+      THEN "S"."VARIANCE_2"
+    END AS "VARIANCE",
+    CASE "M"."METRIC_INDEX"
+      WHEN 0
+      THEN CAST(0 AS DOUBLE)
+      WHEN 1
+      THEN "S"."INVALID_1"
+      WHEN 2
+      THEN CAST(0 AS DOUBLE)
+    END AS "INVALID",
+    CASE "M"."METRIC_INDEX" WHEN 2 THEN "S"."N_3" END AS "X_N",
+    CASE "M"."METRIC_INDEX" WHEN 2 THEN "S"."MEAN_3" * "S"."N_3" END AS "X_TOTAL",
+    CASE "M"."METRIC_INDEX" WHEN 2 THEN "S"."MEAN_3" END AS "X_MEAN",
+    CASE "M"."METRIC_INDEX" WHEN 2 THEN "S"."VARIANCE_3" END AS "X_VARIANCE",
+    CASE "M"."METRIC_INDEX" WHEN 2 THEN "S"."COVARIANCE_2_3" END AS "XY_COVARIANCE"
+  FROM "ARM_STATS" AS "S"
+  CROSS JOIN "METRIC_LIST" AS "M"
+), "WITH_CONTROL" AS (
+  SELECT
+    "METRIC_INDEX",
+    "METRIC",
+    "KIND",
+    "ROLE",
+    "METHOD",
+    "SIGMA",
+    "DIRECTION",
+    "MARGIN",
+    "RELATIVE_MARGIN",
+    "TARGET",
+    "SEGMENT_INDEX",
+    "SEGMENT",
+    "SEGMENT_VALUE",
+    "ARM",
+    CASE WHEN "ARM" = 'control' THEN 1 ELSE 0 END AS "IS_CONTROL",
+    "UNITS",
+    SUM(CASE WHEN "ARM" IS NULL THEN "UNITS" ELSE 0 END) OVER (PARTITION BY "METRIC_INDEX", "SEGMENT_INDEX", "SEGMENT_VALUE") AS "EXCLUDED_UNITS",
+    "N",
+    "TOTAL",
+    "MEAN",
+    "VARIANCE",
+    "INVALID",
+    "X_N",
+    "X_TOTAL",
+    "X_MEAN",
+    "X_VARIANCE",
+    "XY_COVARIANCE",
+    MAX(CASE WHEN "ARM" = 'control' THEN "N" END) OVER (PARTITION BY "METRIC_INDEX", "SEGMENT_INDEX", "SEGMENT_VALUE") AS "CONTROL_N",
+    MAX(CASE WHEN "ARM" = 'control' THEN "TOTAL" END) OVER (PARTITION BY "METRIC_INDEX", "SEGMENT_INDEX", "SEGMENT_VALUE") AS "CONTROL_TOTAL",
+    MAX(CASE WHEN "ARM" = 'control' THEN "MEAN" END) OVER (PARTITION BY "METRIC_INDEX", "SEGMENT_INDEX", "SEGMENT_VALUE") AS "CONTROL_MEAN",
+    MAX(CASE WHEN "ARM" = 'control' THEN "VARIANCE" END) OVER (PARTITION BY "METRIC_INDEX", "SEGMENT_INDEX", "SEGMENT_VALUE") AS "CONTROL_VARIANCE",
+    MAX(CASE WHEN "ARM" = 'control' THEN "X_N" END) OVER (PARTITION BY "METRIC_INDEX", "SEGMENT_INDEX", "SEGMENT_VALUE") AS "CONTROL_X_N",
+    MAX(CASE WHEN "ARM" = 'control' THEN "X_TOTAL" END) OVER (PARTITION BY "METRIC_INDEX", "SEGMENT_INDEX", "SEGMENT_VALUE") AS "CONTROL_X_TOTAL",
+    MAX(CASE WHEN "ARM" = 'control' THEN "X_MEAN" END) OVER (PARTITION BY "METRIC_INDEX", "SEGMENT_INDEX", "SEGMENT_VALUE") AS "CONTROL_X_MEAN",
+    MAX(CASE WHEN "ARM" = 'control' THEN "X_VARIANCE" END) OVER (PARTITION BY "METRIC_INDEX", "SEGMENT_INDEX", "SEGMENT_VALUE") AS "CONTROL_X_VARIANCE",
+    MAX(CASE WHEN "ARM" = 'control' THEN "XY_COVARIANCE" END) OVER (PARTITION BY "METRIC_INDEX", "SEGMENT_INDEX", "SEGMENT_VALUE") AS "CONTROL_XY_COVARIANCE"
+  FROM "PER_ARM"
+), "ARM_VALUES" AS (
+  SELECT
+    *,
+    1.0 / NULLIF("N", 0) AS "INV_N",
+    1.0 / NULLIF("CONTROL_N", 0) AS "INV_CONTROL_N",
+    CASE WHEN "KIND" = 'ratio' THEN "TOTAL" / NULLIF("X_TOTAL", 0) ELSE "MEAN" END AS "VALUE",
+    CASE
+      WHEN "KIND" = 'ratio'
+      THEN "CONTROL_TOTAL" / NULLIF("CONTROL_X_TOTAL", 0)
+      ELSE "CONTROL_MEAN"
+    END AS "CONTROL_VALUE",
+    CASE
+      WHEN "KIND" = 'ratio'
+      THEN (
+        "N" - 1
+      ) * (
+        "VARIANCE" - 2 * (
+          "TOTAL" / NULLIF("X_TOTAL", 0)
+        ) * "XY_COVARIANCE" + (
+          "TOTAL" / NULLIF("X_TOTAL", 0)
+        ) * (
+          "TOTAL" / NULLIF("X_TOTAL", 0)
+        ) * "X_VARIANCE"
+      ) / NULLIF("X_TOTAL" * "X_TOTAL", 0)
+      ELSE "VARIANCE" / NULLIF("N", 0)
+    END AS "VALUE_VARIANCE",
+    CASE
+      WHEN "KIND" = 'ratio'
+      THEN (
+        "CONTROL_N" - 1
+      ) * (
+        "CONTROL_VARIANCE" - 2 * (
+          "CONTROL_TOTAL" / NULLIF("CONTROL_X_TOTAL", 0)
+        ) * "CONTROL_XY_COVARIANCE" + (
+          "CONTROL_TOTAL" / NULLIF("CONTROL_X_TOTAL", 0)
+        ) * (
+          "CONTROL_TOTAL" / NULLIF("CONTROL_X_TOTAL", 0)
+        ) * "CONTROL_X_VARIANCE"
+      ) / NULLIF("CONTROL_X_TOTAL" * "CONTROL_X_TOTAL", 0)
+      ELSE "CONTROL_VARIANCE" / NULLIF("CONTROL_N", 0)
+    END AS "CONTROL_VALUE_VARIANCE",
+    (
+      "TOTAL" + "CONTROL_TOTAL"
+    ) / NULLIF("N" + "CONTROL_N", 0) AS "POOLED_MEAN",
+    (
+      (
+        "N" - 1
+      ) * "VARIANCE" + (
+        "CONTROL_N" - 1
+      ) * "CONTROL_VARIANCE"
+    ) / NULLIF("N" + "CONTROL_N" - 2, 0) AS "POOLED_VARIANCE",
+    CASE
+      WHEN "METHOD" = 'cuped_welch_t'
+      THEN (
+        (
+          "N" - 1
+        ) * "XY_COVARIANCE" + (
+          "CONTROL_N" - 1
+        ) * "CONTROL_XY_COVARIANCE"
+      ) / NULLIF((
+        "N" - 1
+      ) * "X_VARIANCE" + (
+        "CONTROL_N" - 1
+      ) * "CONTROL_X_VARIANCE", 0)
+    END AS "THETA",
+    CASE
+      WHEN "METHOD" = 'cuped_welch_t'
+      THEN COALESCE("XY_COVARIANCE" / NULLIF("X_VARIANCE", 0), 0)
+    END AS "ARM_THETA",
+    CASE
+      WHEN "METHOD" = 'cuped_welch_t'
+      THEN COALESCE("CONTROL_XY_COVARIANCE" / NULLIF("CONTROL_X_VARIANCE", 0), 0)
+    END AS "CONTROL_ARM_THETA",
+    CASE
+      WHEN "METHOD" = 'cuped_welch_t'
+      THEN (
+        "N" * "X_MEAN" + "CONTROL_N" * "CONTROL_X_MEAN"
+      ) / NULLIF("N" + "CONTROL_N", 0)
+    END AS "POOLED_X_MEAN"
+  FROM "WITH_CONTROL"
+  WHERE
+    NOT "ARM" IS NULL
+), "ADJUSTED" AS (
+  SELECT
+    *,
+    CASE
+      WHEN "METHOD" = 'cuped_welch_t'
+      THEN (
+        "N" - 1
+      ) * (
+        "VARIANCE" - "ARM_THETA" * "XY_COVARIANCE"
+      ) / NULLIF("N" - 2, 0) * (
+        "INV_N" + CASE
+          WHEN "X_VARIANCE" > 0
+          THEN (
+            "X_MEAN" - "POOLED_X_MEAN"
+          ) * (
+            "X_MEAN" - "POOLED_X_MEAN"
+          ) / (
+            (
+              "N" - 1
+            ) * "X_VARIANCE"
+          )
+          ELSE 0
+        END
+      )
+    END AS "ADJUSTED_VARIANCE_OF_MEAN",
+    CASE
+      WHEN "METHOD" = 'cuped_welch_t'
+      THEN (
+        "CONTROL_N" - 1
+      ) * (
+        "CONTROL_VARIANCE" - "CONTROL_ARM_THETA" * "CONTROL_XY_COVARIANCE"
+      ) / NULLIF("CONTROL_N" - 2, 0) * (
+        "INV_CONTROL_N" + CASE
+          WHEN "CONTROL_X_VARIANCE" > 0
+          THEN (
+            "CONTROL_X_MEAN" - "POOLED_X_MEAN"
+          ) * (
+            "CONTROL_X_MEAN" - "POOLED_X_MEAN"
+          ) / (
+            (
+              "CONTROL_N" - 1
+            ) * "CONTROL_X_VARIANCE"
+          )
+          ELSE 0
+        END
+      )
+    END AS "CONTROL_ADJUSTED_VARIANCE_OF_MEAN"
+  FROM "ARM_VALUES"
+), "COMPARED" AS (
+  SELECT
+    *,
+    CASE WHEN "IS_CONTROL" = 0 THEN "VALUE" - "CONTROL_VALUE" END AS "DIFFERENCE",
+    CASE
+      WHEN "IS_CONTROL" = 1
+      THEN NULL
+      WHEN "METHOD" = 'cuped_welch_t'
+      THEN (
+        "MEAN" - "ARM_THETA" * (
+          "X_MEAN" - "POOLED_X_MEAN"
+        )
+      ) - (
+        "CONTROL_MEAN" - "CONTROL_ARM_THETA" * (
+          "CONTROL_X_MEAN" - "POOLED_X_MEAN"
+        )
+      )
+      ELSE "VALUE" - "CONTROL_VALUE"
+    END AS "ESTIMATE",
+    CASE
+      WHEN "IS_CONTROL" = 1
+      THEN NULL
+      WHEN "METHOD" = 'two_proportion_z'
+      THEN SQRT(
+        CASE
+          WHEN "MEAN" * (
+            1 - "MEAN"
+          ) * "INV_N" + "CONTROL_MEAN" * (
+            1 - "CONTROL_MEAN"
+          ) * "INV_CONTROL_N" < 0
+          THEN NULL
+          ELSE "MEAN" * (
+            1 - "MEAN"
+          ) * "INV_N" + "CONTROL_MEAN" * (
+            1 - "CONTROL_MEAN"
+          ) * "INV_CONTROL_N"
+        END
+      )
+      WHEN "METHOD" = 'z_known_sigma'
+      THEN "SIGMA" * SQRT("INV_N" + "INV_CONTROL_N")
+      WHEN "METHOD" = 'student_t'
+      THEN SQRT(
+        CASE
+          WHEN "POOLED_VARIANCE" * (
+            "INV_N" + "INV_CONTROL_N"
+          ) < 0
+          THEN NULL
+          ELSE "POOLED_VARIANCE" * (
+            "INV_N" + "INV_CONTROL_N"
+          )
+        END
+      )
+      WHEN "METHOD" = 'cuped_welch_t'
+      THEN SQRT(
+        CASE
+          WHEN "ADJUSTED_VARIANCE_OF_MEAN" + "CONTROL_ADJUSTED_VARIANCE_OF_MEAN" < 0
+          THEN NULL
+          ELSE "ADJUSTED_VARIANCE_OF_MEAN" + "CONTROL_ADJUSTED_VARIANCE_OF_MEAN"
+        END
+      )
+      ELSE SQRT(
+        CASE
+          WHEN "VALUE_VARIANCE" + "CONTROL_VALUE_VARIANCE" < 0
+          THEN NULL
+          ELSE "VALUE_VARIANCE" + "CONTROL_VALUE_VARIANCE"
+        END
+      )
+    END AS "STD_ERROR",
+    CASE
+      WHEN "IS_CONTROL" = 1
+      THEN NULL
+      WHEN "METHOD" = 'two_proportion_z'
+      THEN SQRT(
+        CASE
+          WHEN "POOLED_MEAN" * (
+            1 - "POOLED_MEAN"
+          ) * (
+            "INV_N" + "INV_CONTROL_N"
+          ) < 0
+          THEN NULL
+          ELSE "POOLED_MEAN" * (
+            1 - "POOLED_MEAN"
+          ) * (
+            "INV_N" + "INV_CONTROL_N"
+          )
+        END
+      )
+      WHEN "METHOD" = 'z_known_sigma'
+      THEN "SIGMA" * SQRT("INV_N" + "INV_CONTROL_N")
+      WHEN "METHOD" = 'student_t'
+      THEN SQRT(
+        CASE
+          WHEN "POOLED_VARIANCE" * (
+            "INV_N" + "INV_CONTROL_N"
+          ) < 0
+          THEN NULL
+          ELSE "POOLED_VARIANCE" * (
+            "INV_N" + "INV_CONTROL_N"
+          )
+        END
+      )
+      WHEN "METHOD" = 'cuped_welch_t'
+      THEN SQRT(
+        CASE
+          WHEN "ADJUSTED_VARIANCE_OF_MEAN" + "CONTROL_ADJUSTED_VARIANCE_OF_MEAN" < 0
+          THEN NULL
+          ELSE "ADJUSTED_VARIANCE_OF_MEAN" + "CONTROL_ADJUSTED_VARIANCE_OF_MEAN"
+        END
+      )
+      ELSE SQRT(
+        CASE
+          WHEN "VALUE_VARIANCE" + "CONTROL_VALUE_VARIANCE" < 0
+          THEN NULL
+          ELSE "VALUE_VARIANCE" + "CONTROL_VALUE_VARIANCE"
+        END
+      )
+    END AS "NULL_STD_ERROR",
+    CASE
+      WHEN "IS_CONTROL" = 1
+      THEN NULL
+      WHEN "METHOD" = 'welch_t'
+      THEN (
+        "VALUE_VARIANCE" + "CONTROL_VALUE_VARIANCE"
+      ) * (
+        "VALUE_VARIANCE" + "CONTROL_VALUE_VARIANCE"
+      ) / NULLIF(
+        "VALUE_VARIANCE" * "VALUE_VARIANCE" / NULLIF("N" - 1, 0) + "CONTROL_VALUE_VARIANCE" * "CONTROL_VALUE_VARIANCE" / NULLIF("CONTROL_N" - 1, 0),
+        0
+      )
+      WHEN "METHOD" = 'cuped_welch_t'
+      THEN (
+        "ADJUSTED_VARIANCE_OF_MEAN" + "CONTROL_ADJUSTED_VARIANCE_OF_MEAN"
+      ) * (
+        "ADJUSTED_VARIANCE_OF_MEAN" + "CONTROL_ADJUSTED_VARIANCE_OF_MEAN"
+      ) / NULLIF(
+        "ADJUSTED_VARIANCE_OF_MEAN" * "ADJUSTED_VARIANCE_OF_MEAN" / NULLIF("N" - 2, 0) + "CONTROL_ADJUSTED_VARIANCE_OF_MEAN" * "CONTROL_ADJUSTED_VARIANCE_OF_MEAN" / NULLIF("CONTROL_N" - 2, 0),
+        0
+      )
+      WHEN "METHOD" = 'student_t'
+      THEN NULLIF("N" + "CONTROL_N" - 2, 0)
+    END AS "DF",
+    CASE
+      WHEN "METHOD" = 'cuped_welch_t' AND "IS_CONTROL" = 0
+      THEN 1 - (
+        "ADJUSTED_VARIANCE_OF_MEAN" + "CONTROL_ADJUSTED_VARIANCE_OF_MEAN"
+      ) / NULLIF("VARIANCE" / NULLIF("N", 0) + "CONTROL_VARIANCE" / NULLIF("CONTROL_N", 0), 0)
+    END AS "VARIANCE_REDUCTION",
+    CASE
+      WHEN "TARGET" IS NULL
+      THEN NULL
+      WHEN "KIND" = 'proportion'
+      THEN (
+        "VALUE" - "TARGET"
+      ) / NULLIF(SQRT("TARGET" * (
+        1 - "TARGET"
+      ) * "INV_N"), 0)
+      ELSE (
+        "VALUE" - "TARGET"
+      ) / NULLIF(SQRT(CASE WHEN "VALUE_VARIANCE" < 0 THEN NULL ELSE "VALUE_VARIANCE" END), 0)
+    END AS "TARGET_STATISTIC",
+    CASE WHEN NOT "TARGET" IS NULL AND "KIND" = 'mean' THEN "N" - 1 END AS "TARGET_DF"
+  FROM "ADJUSTED"
+), "LIFT_TERMS" AS (
+  SELECT
+    *,
+    CASE
+      WHEN "METHOD" = 'two_proportion_z'
+      THEN "CONTROL_MEAN" * (
+        1 - "CONTROL_MEAN"
+      ) * "INV_CONTROL_N"
+      WHEN "METHOD" = 'z_known_sigma'
+      THEN "SIGMA" * "SIGMA" * "INV_CONTROL_N"
+      WHEN "METHOD" = 'student_t'
+      THEN "POOLED_VARIANCE" * "INV_CONTROL_N"
+      ELSE "CONTROL_VALUE_VARIANCE"
+    END AS "LIFT_CONTROL_VARIANCE",
+    CASE
+      WHEN "METHOD" = 'cuped_welch_t'
+      THEN (
+        "CONTROL_VARIANCE" - (
+          "CONTROL_ARM_THETA" + (
+            "ARM_THETA" - "CONTROL_ARM_THETA"
+          ) * "CONTROL_N" / NULLIF("N" + "CONTROL_N", 0)
+        ) * "CONTROL_XY_COVARIANCE"
+      ) * "INV_CONTROL_N"
+    END AS "CUPED_CONTROL_COVARIANCE"
+  FROM "COMPARED"
+), "LIFTED" AS (
+  SELECT
+    *,
+    "ESTIMATE" / NULLIF("CONTROL_VALUE", 0) AS "RELATIVE_LIFT",
+    SQRT(
+      CASE
+        WHEN "STD_ERROR" * "STD_ERROR" / NULLIF("CONTROL_VALUE" * "CONTROL_VALUE", 0) + "ESTIMATE" * "ESTIMATE" * "LIFT_CONTROL_VARIANCE" / NULLIF("CONTROL_VALUE" * "CONTROL_VALUE" * "CONTROL_VALUE" * "CONTROL_VALUE", 0) + 2 * "ESTIMATE" * CASE
+          WHEN "METHOD" = 'cuped_welch_t'
+          THEN "CUPED_CONTROL_COVARIANCE"
+          ELSE "LIFT_CONTROL_VARIANCE"
+        END / NULLIF("CONTROL_VALUE" * "CONTROL_VALUE" * "CONTROL_VALUE", 0) < 0
+        THEN NULL
+        ELSE "STD_ERROR" * "STD_ERROR" / NULLIF("CONTROL_VALUE" * "CONTROL_VALUE", 0) + "ESTIMATE" * "ESTIMATE" * "LIFT_CONTROL_VARIANCE" / NULLIF("CONTROL_VALUE" * "CONTROL_VALUE" * "CONTROL_VALUE" * "CONTROL_VALUE", 0) + 2 * "ESTIMATE" * CASE
+          WHEN "METHOD" = 'cuped_welch_t'
+          THEN "CUPED_CONTROL_COVARIANCE"
+          ELSE "LIFT_CONTROL_VARIANCE"
+        END / NULLIF("CONTROL_VALUE" * "CONTROL_VALUE" * "CONTROL_VALUE", 0)
+      END
+    ) AS "LIFT_STD_ERROR"
+  FROM "LIFT_TERMS"
+), "SEQUENTIAL" AS (
+  SELECT
+    *,
+    0.05 * 0.05 * "CONTROL_VALUE" * "CONTROL_VALUE" AS "MIXING_VARIANCE",
+    "STD_ERROR" * "STD_ERROR" AS "SEQUENTIAL_VARIANCE"
+  FROM "LIFTED"
+), "MONITORED" AS (
+  SELECT
+    *,
+    CASE
+      WHEN "SEQUENTIAL_VARIANCE" > 0 AND "MIXING_VARIANCE" > 0
+      THEN 0.5 * LN("SEQUENTIAL_VARIANCE" / (
+        "SEQUENTIAL_VARIANCE" + "MIXING_VARIANCE"
+      )) + "MIXING_VARIANCE" * "ESTIMATE" * "ESTIMATE" / (
+        2 * "SEQUENTIAL_VARIANCE" * (
+          "SEQUENTIAL_VARIANCE" + "MIXING_VARIANCE"
+        )
+      )
+    END AS "LOG_LIKELIHOOD_RATIO",
+    CASE
+      WHEN "SEQUENTIAL_VARIANCE" > 0 AND "MIXING_VARIANCE" > 0
+      THEN SQRT(
+        "SEQUENTIAL_VARIANCE" * (
+          "SEQUENTIAL_VARIANCE" + "MIXING_VARIANCE"
+        ) / "MIXING_VARIANCE" * (
+          2 * LN(1 / 0.05) + LN((
+            "SEQUENTIAL_VARIANCE" + "MIXING_VARIANCE"
+          ) / "SEQUENTIAL_VARIANCE")
+        )
+      )
+    END AS "SEQUENCE_HALF_WIDTH"
+  FROM "SEQUENTIAL"
+), "MONITORED_P" AS (
+  SELECT
+    *,
+    CASE
+      WHEN "LOG_LIKELIHOOD_RATIO" IS NULL
+      THEN NULL
+      WHEN "LOG_LIKELIHOOD_RATIO" <= 0
+      THEN 1.0
+      WHEN "LOG_LIKELIHOOD_RATIO" > 700
+      THEN 0.0
+      ELSE EXP(-"LOG_LIKELIHOOD_RATIO")
+    END AS "SEQUENTIAL_P_VALUE"
+  FROM "MONITORED"
+), "RESULT" AS (
+  SELECT
+    "METRIC_INDEX",
+    "METRIC",
+    "KIND",
+    "ROLE",
+    "METHOD",
+    "SEGMENT_INDEX",
+    "SEGMENT",
+    "SEGMENT_VALUE",
+    "ARM",
+    "IS_CONTROL",
+    "UNITS",
+    "EXCLUDED_UNITS",
+    "N",
+    "TOTAL",
+    "MEAN",
+    "VARIANCE",
+    "INVALID",
+    "X_N",
+    "X_TOTAL",
+    "X_MEAN",
+    "X_VARIANCE",
+    "XY_COVARIANCE",
+    "VALUE",
+    SQRT("VALUE_VARIANCE") AS "VALUE_STD_ERROR",
+    "CONTROL_N",
+    "CONTROL_TOTAL",
+    "CONTROL_MEAN",
+    "CONTROL_VARIANCE",
+    "CONTROL_VALUE",
+    SQRT("CONTROL_VALUE_VARIANCE") AS "CONTROL_VALUE_STD_ERROR",
+    "DIFFERENCE",
+    "ESTIMATE",
+    "STD_ERROR",
+    "NULL_STD_ERROR",
+    "ESTIMATE" / NULLIF("NULL_STD_ERROR", 0) AS "STATISTIC",
+    "DF",
+    "THETA",
+    "VARIANCE_REDUCTION",
+    "RELATIVE_LIFT",
+    "LIFT_STD_ERROR",
+    "DIRECTION",
+    "MARGIN",
+    "RELATIVE_MARGIN",
+    CASE
+      WHEN "IS_CONTROL" = 1
+      THEN NULL
+      WHEN NOT "MARGIN" IS NULL AND "DIRECTION" = 'higher'
+      THEN (
+        "ESTIMATE" + "MARGIN"
+      ) / NULLIF("STD_ERROR", 0)
+      WHEN NOT "MARGIN" IS NULL AND "DIRECTION" = 'lower'
+      THEN (
+        "MARGIN" - "ESTIMATE"
+      ) / NULLIF("STD_ERROR", 0)
+      WHEN NOT "RELATIVE_MARGIN" IS NULL AND "DIRECTION" = 'higher'
+      THEN (
+        "RELATIVE_LIFT" + "RELATIVE_MARGIN"
+      ) / NULLIF("LIFT_STD_ERROR", 0)
+      WHEN NOT "RELATIVE_MARGIN" IS NULL AND "DIRECTION" = 'lower'
+      THEN (
+        "RELATIVE_MARGIN" - "RELATIVE_LIFT"
+      ) / NULLIF("LIFT_STD_ERROR", 0)
+    END AS "MARGIN_STATISTIC",
+    "TARGET",
+    "TARGET_STATISTIC",
+    "TARGET_DF",
+    "ARM_THETA" AS "THETA_TREATMENT",
+    "CONTROL_ARM_THETA" AS "THETA_CONTROL",
+    "SEQUENTIAL_P_VALUE" AS "ALWAYS_VALID_P_VALUE",
+    "ESTIMATE" - "SEQUENCE_HALF_WIDTH" AS "SEQUENCE_LOW",
+    "ESTIMATE" + "SEQUENCE_HALF_WIDTH" AS "SEQUENCE_HIGH"
+  FROM "MONITORED_P"
+)
+SELECT
+  "METRIC_INDEX",
+  "METRIC",
+  "KIND",
+  "ROLE",
+  "METHOD",
+  "SEGMENT_INDEX",
+  "SEGMENT",
+  "SEGMENT_VALUE",
+  "ARM",
+  "IS_CONTROL",
+  "UNITS",
+  "EXCLUDED_UNITS",
+  "N",
+  "TOTAL",
+  "MEAN",
+  "VARIANCE",
+  "INVALID",
+  "X_N",
+  "X_TOTAL",
+  "X_MEAN",
+  "X_VARIANCE",
+  "XY_COVARIANCE",
+  "VALUE",
+  "VALUE_STD_ERROR",
+  "CONTROL_N",
+  "CONTROL_TOTAL",
+  "CONTROL_MEAN",
+  "CONTROL_VARIANCE",
+  "CONTROL_VALUE",
+  "CONTROL_VALUE_STD_ERROR",
+  "DIFFERENCE",
+  "ESTIMATE",
+  "STD_ERROR",
+  "NULL_STD_ERROR",
+  "STATISTIC",
+  "DF",
+  "THETA",
+  "VARIANCE_REDUCTION",
+  "RELATIVE_LIFT",
+  "LIFT_STD_ERROR",
+  "DIRECTION",
+  "MARGIN",
+  "RELATIVE_MARGIN",
+  "MARGIN_STATISTIC",
+  "TARGET",
+  "TARGET_STATISTIC",
+  "TARGET_DF",
+  "THETA_TREATMENT",
+  "THETA_CONTROL",
+  "ALWAYS_VALID_P_VALUE",
+  "SEQUENCE_LOW",
+  "SEQUENCE_HIGH"
+FROM "RESULT"
+ORDER BY
+  "METRIC_INDEX",
+  "SEGMENT_INDEX",
+  "SEGMENT_VALUE",
+  "IS_CONTROL" DESC NULLS LAST,
+  "ARM"

@@ -1,0 +1,124 @@
+WITH "POPULATION" AS (
+  SELECT
+    "MEMBER_ID" AS "UNIT_ID"
+  FROM "LAB"."ASSIGNMENTS" AS "ASSIGNMENT_ROWS"
+  GROUP BY
+    "MEMBER_ID"
+), "UNIT_PRE_PERIOD" AS (
+  SELECT
+    "MEMBER_ID" AS "UNIT_ID",
+    CASE WHEN COUNT(*) > 0 THEN 1 ELSE 0 END AS "RAW_0",
+    COUNT(*) AS "RAW_1",
+    SUM(CAST("SPEND" AS DOUBLE)) AS "RAW_2",
+    COUNT(*) AS "RAW_3"
+  FROM "LAB"."EVENTS" AS "PRE_PERIOD_ROWS"
+  WHERE
+    "HAPPENED_ON" >= CAST('2026-08-01' AS DATE)
+    AND "HAPPENED_ON" < CAST('2026-09-01' AS DATE)
+  GROUP BY
+    "MEMBER_ID"
+), "UNIT_VALUES" AS (
+  SELECT
+    "P"."UNIT_ID",
+    CASE WHEN "R"."UNIT_ID" IS NULL THEN 1 ELSE 0 END AS "WITHOUT_ROWS",
+    COALESCE(CAST("R"."RAW_0" AS DOUBLE), 0.0) AS "V_0",
+    COALESCE(CAST("R"."RAW_1" AS DOUBLE), 0.0) AS "V_1",
+    COALESCE(CAST("R"."RAW_2" AS DOUBLE), 0.0) AS "V_2",
+    COALESCE(CAST("R"."RAW_3" AS DOUBLE), 0.0) AS "V_3"
+  FROM "POPULATION" AS "P"
+  LEFT JOIN "UNIT_PRE_PERIOD" AS "R"
+    ON "P"."UNIT_ID" = "R"."UNIT_ID"
+), "UNIT_CENTRED" AS (
+  SELECT
+    "UNIT_ID",
+    "WITHOUT_ROWS",
+    "V_0",
+    "V_0" - AVG("V_0") OVER () AS "D_0",
+    "V_1",
+    "V_1" - AVG("V_1") OVER () AS "D_1",
+    "V_2",
+    "V_2" - AVG("V_2") OVER () AS "D_2",
+    "V_3",
+    "V_3" - AVG("V_3") OVER () AS "D_3"
+  FROM "UNIT_VALUES"
+), "OVERALL" AS (
+  SELECT
+    CAST(COUNT(*) AS DOUBLE) AS "POPULATION",
+    CAST(COUNT(*) - SUM("WITHOUT_ROWS") AS DOUBLE) AS "UNITS",
+    CAST(COUNT("V_0") AS DOUBLE) AS "N_0",
+    AVG("V_0") AS "MEAN_0",
+    (
+      SUM("D_0" * "D_0") - SUM("D_0") * SUM("D_0") / NULLIF(CAST(COUNT("D_0") AS DOUBLE), 0)
+    ) / NULLIF(CAST(COUNT("D_0") AS DOUBLE) - 1, 0) AS "VARIANCE_0",
+    CAST(COUNT("V_1") AS DOUBLE) AS "N_1",
+    AVG("V_1") AS "MEAN_1",
+    (
+      SUM("D_1" * "D_1") - SUM("D_1") * SUM("D_1") / NULLIF(CAST(COUNT("D_1") AS DOUBLE), 0)
+    ) / NULLIF(CAST(COUNT("D_1") AS DOUBLE) - 1, 0) AS "VARIANCE_1",
+    CAST(COUNT("V_2") AS DOUBLE) AS "N_2",
+    AVG("V_2") AS "MEAN_2",
+    (
+      SUM("D_2" * "D_2") - SUM("D_2") * SUM("D_2") / NULLIF(CAST(COUNT("D_2") AS DOUBLE), 0)
+    ) / NULLIF(CAST(COUNT("D_2") AS DOUBLE) - 1, 0) AS "VARIANCE_2",
+    CAST(COUNT("V_3") AS DOUBLE) AS "N_3",
+    AVG("V_3") AS "MEAN_3",
+    (
+      SUM("D_3" * "D_3") - SUM("D_3") * SUM("D_3") / NULLIF(CAST(COUNT("D_3") AS DOUBLE), 0)
+    ) / NULLIF(CAST(COUNT("D_3") AS DOUBLE) - 1, 0) AS "VARIANCE_3",
+    (
+      SUM("D_2" * "D_3") - SUM("D_2") * SUM("D_3") / NULLIF(CAST(COUNT("D_2" * "D_3") AS DOUBLE), 0)
+    ) / NULLIF(CAST(COUNT("D_2" * "D_3") AS DOUBLE) - 1, 0) AS "COVARIANCE_2_3"
+  FROM "UNIT_CENTRED"
+), "METRIC_LIST" AS (
+  SELECT
+    0 AS "METRIC_INDEX",
+    'active' AS "METRIC",
+    'proportion' AS "KIND"
+  UNION ALL
+  SELECT
+    1 AS "METRIC_INDEX",
+    'visits' AS "METRIC",
+    'mean' AS "KIND"
+  UNION ALL
+  SELECT
+    2 AS "METRIC_INDEX",
+    'spend_per_visit' AS "METRIC",
+    'ratio' AS "KIND"
+)
+SELECT
+  "M"."METRIC_INDEX",
+  "M"."METRIC",
+  "M"."KIND",
+  "O"."POPULATION",
+  "O"."UNITS",
+  CASE "M"."METRIC_INDEX"
+    WHEN 0
+    THEN "O"."N_0"
+    WHEN 1
+    THEN "O"."N_1"
+    WHEN 2
+    THEN "O"."N_2"
+  END AS "N",
+  CASE "M"."METRIC_INDEX"
+    WHEN 0
+    THEN "O"."MEAN_0"
+    WHEN 1
+    THEN "O"."MEAN_1"
+    WHEN 2
+    THEN "O"."MEAN_2"
+  END AS "MEAN",
+  CASE "M"."METRIC_INDEX"
+    WHEN 0
+    THEN "O"."VARIANCE_0"
+    WHEN 1
+    THEN "O"."VARIANCE_1"
+    WHEN 2
+    THEN "O"."VARIANCE_2"
+  END AS "VARIANCE",
+  CASE "M"."METRIC_INDEX" WHEN 2 THEN "O"."MEAN_3" END AS "X_MEAN",
+  CASE "M"."METRIC_INDEX" WHEN 2 THEN "O"."VARIANCE_3" END AS "X_VARIANCE",
+  CASE "M"."METRIC_INDEX" WHEN 2 THEN "O"."COVARIANCE_2_3" END AS "XY_COVARIANCE"
+FROM "OVERALL" AS "O"
+CROSS JOIN "METRIC_LIST" AS "M"
+ORDER BY
+  "M"."METRIC_INDEX"

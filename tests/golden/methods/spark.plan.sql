@@ -1,0 +1,95 @@
+WITH `population` AS (
+  SELECT
+    `member_id` AS `unit_id`
+  FROM `lab`.`assignments` AS `assignment_rows`
+  GROUP BY
+    `member_id`
+), `unit_pre_period` AS (
+  SELECT
+    `member_id` AS `unit_id`,
+    CASE WHEN COUNT(*) > 0 THEN 1 ELSE 0 END AS `raw_0`,
+    COUNT(*) AS `raw_1`,
+    SUM(CAST(`spend` AS DOUBLE)) AS `raw_2`,
+    COUNT(*) AS `raw_3`
+  FROM `lab`.`events` AS `pre_period_rows`
+  WHERE
+    `happened_on` >= CAST('2026-08-01' AS DATE)
+    AND `happened_on` < CAST('2026-09-01' AS DATE)
+  GROUP BY
+    `member_id`
+), `unit_values` AS (
+  SELECT
+    `p`.`unit_id`,
+    CASE WHEN `r`.`unit_id` IS NULL THEN 1 ELSE 0 END AS `without_rows`,
+    COALESCE(CAST(`r`.`raw_0` AS DOUBLE), 0.0) AS `v_0`,
+    COALESCE(CAST(`r`.`raw_1` AS DOUBLE), 0.0) AS `v_1`,
+    COALESCE(CAST(`r`.`raw_2` AS DOUBLE), 0.0) AS `v_2`,
+    COALESCE(CAST(`r`.`raw_3` AS DOUBLE), 0.0) AS `v_3`
+  FROM `population` AS `p`
+  LEFT JOIN `unit_pre_period` AS `r`
+    ON `p`.`unit_id` = `r`.`unit_id`
+), `overall` AS (
+  SELECT
+    CAST(COUNT(*) AS DOUBLE) AS `population`,
+    CAST(COUNT(*) - SUM(`without_rows`) AS DOUBLE) AS `units`,
+    CAST(COUNT(`v_0`) AS DOUBLE) AS `n_0`,
+    AVG(`v_0`) AS `mean_0`,
+    VARIANCE(`v_0`) AS `variance_0`,
+    CAST(COUNT(`v_1`) AS DOUBLE) AS `n_1`,
+    AVG(`v_1`) AS `mean_1`,
+    VARIANCE(`v_1`) AS `variance_1`,
+    CAST(COUNT(`v_2`) AS DOUBLE) AS `n_2`,
+    AVG(`v_2`) AS `mean_2`,
+    VARIANCE(`v_2`) AS `variance_2`,
+    CAST(COUNT(`v_3`) AS DOUBLE) AS `n_3`,
+    AVG(`v_3`) AS `mean_3`,
+    VARIANCE(`v_3`) AS `variance_3`,
+    COVAR_SAMP(`v_2`, `v_3`) AS `covariance_2_3`
+  FROM `unit_values`
+), `metric_list` AS (
+  SELECT
+    `metric_index`,
+    `metric`,
+    `kind`
+  FROM VALUES
+    (0, 'active', 'proportion'),
+    (1, 'visits', 'mean'),
+    (2, 'spend_per_visit', 'ratio') AS `metric_list__rows`(`metric_index`, `metric`, `kind`)
+)
+SELECT
+  `m`.`metric_index`,
+  `m`.`metric`,
+  `m`.`kind`,
+  `o`.`population`,
+  `o`.`units`,
+  CASE `m`.`metric_index`
+    WHEN 0
+    THEN `o`.`n_0`
+    WHEN 1
+    THEN `o`.`n_1`
+    WHEN 2
+    THEN `o`.`n_2`
+  END AS `n`,
+  CASE `m`.`metric_index`
+    WHEN 0
+    THEN `o`.`mean_0`
+    WHEN 1
+    THEN `o`.`mean_1`
+    WHEN 2
+    THEN `o`.`mean_2`
+  END AS `mean`,
+  CASE `m`.`metric_index`
+    WHEN 0
+    THEN `o`.`variance_0`
+    WHEN 1
+    THEN `o`.`variance_1`
+    WHEN 2
+    THEN `o`.`variance_2`
+  END AS `variance`,
+  CASE `m`.`metric_index` WHEN 2 THEN `o`.`mean_3` END AS `x_mean`,
+  CASE `m`.`metric_index` WHEN 2 THEN `o`.`variance_3` END AS `x_variance`,
+  CASE `m`.`metric_index` WHEN 2 THEN `o`.`covariance_2_3` END AS `xy_covariance`
+FROM `overall` AS `o`
+CROSS JOIN `metric_list` AS `m`
+ORDER BY
+  `m`.`metric_index` NULLS LAST
