@@ -5,9 +5,9 @@ that every dialect compiles it), prints per dialect the bytes, lines and WITH el
 the `--readout` query beside the plain experiment query. With --spark, also times Spark
 SQL local mode (default driver heap: no spark.driver.memory set) planning the readout and
 the plain query of the five-metric test spec (tests/test_readout.py): `EXPLAIN` of each,
-median of --repeat runs after one warm-up. Run timings under the team's exclusive lock:
+median of --repeat runs after one warm-up. Run timings on a quiet machine:
 
-    flock -x /tmp/team/heavy.lock python3 benchmarks/readout_size.py --spark
+    python3 benchmarks/readout_size.py --spark
 """
 
 from __future__ import annotations

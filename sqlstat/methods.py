@@ -51,7 +51,7 @@ class Method:
     statistic: str  # "z", "t", "odds_ratio" or "successes": what the statistic column holds
     sql_block: str | None  # macro in templates/results.sql.j2 giving its SQL; None: computed in Python
     one_arm: bool  # a check of one arm against a target, not a comparison of two arms
-    source: str  # the published method (authors, year)
+    source: str  # the published method (authors, year), as docs/methods.md states it (the reports show it)
     plan: Callable[[Any], str]  # metric -> what `check` prints for it
     fallback: str | None = None  # the test the data can force instead (from the counts)
 
@@ -63,31 +63,37 @@ def _plan_proportion(m: Any) -> str:
 
 METHODS: dict[str, Method] = {m.id: m for m in (
     Method(TEST_TWO_PROPORTION_Z, "two-proportion z test", "z", "two_proportion_z", False,
-           "pooled standard error under no difference (textbook z test for two proportions)",
+           "two-proportion z test, pooled standard error; Wald interval (Fleiss, Levin and Paik, 2003)",
            _plan_proportion, fallback=TEST_FISHER_EXACT),
-    Method(TEST_FISHER_EXACT, "Fisher's exact test", "odds_ratio", None, False, "Fisher (1935)",
+    Method(TEST_FISHER_EXACT, "Fisher's exact test", "odds_ratio", None, False,
+           "Fisher's (1935) exact test; Newcombe's (1998) hybrid score interval; conditional "
+           "maximum-likelihood odds ratio (Cornfield, 1956)",
            lambda m: "fisher_exact: Fisher's exact test on the 2x2 counts"),
     Method(TEST_Z_KNOWN_SIGMA, "z test with known sigma", "z", "z_known_sigma", False,
-           "z test with a known population standard deviation",
+           "z test with a known standard deviation",
            lambda m: f"z_known_sigma: z test with the given sigma = {m.sigma:g}"),
-    Method(TEST_WELCH_T, "Welch's t test", "t", "welch_t", False, "Welch (1947); Satterthwaite (1946) df",
+    Method(TEST_WELCH_T, "Welch's t test", "t", "welch_t", False,
+           "Welch's (1947) t test with Welch-Satterthwaite degrees of freedom (Satterthwaite, 1946)",
            lambda m: (f"welch_t: Welch's t test with Welch-Satterthwaite df; an arm under {MIN_UNITS_FOR_CLT} "
                       f"units gets a normality note")),
-    Method(TEST_STUDENT_T, "Student's pooled t test", "t", "student_t", False, "Student (1908)",
+    Method(TEST_STUDENT_T, "Student's pooled t test", "t", "student_t", False,
+           "Student's (1908) pooled-variance t test",
            lambda m: "student_t: pooled-variance t test (equal_variance = true)"),
     Method(TEST_RATIO_DELTA_Z, "z test, delta-method standard error", "z", "ratio_delta_z", False,
-           "Deng, Knoblich and Lu (2018)",
+           "delta method for a ratio of per-unit sums (Deng, Knoblich and Lu, 2018), z test",
            lambda m: (f"ratio_delta_z: ratio of per-unit sums, z test with the delta-method standard error; "
                       f"an arm under {MIN_UNITS_FOR_CLT} units gets a note")),
     Method(TEST_CUPED_WELCH_T, "CUPED-adjusted Welch t test", "t", "cuped_welch_t", False,
-           "Deng, Xu, Kohavi and Walker (2013); Lin (2013)",
+           "CUPED (Deng, Xu, Kohavi and Walker, 2013) as Lin's (2013) interacted regression, "
+           "Welch degrees of freedom",
            lambda m: ("cuped_welch_t: difference adjusted by the pre-period covariate (CUPED, each arm's own "
                       "slope), Welch df")),
-    Method(TEST_BINOMIAL_EXACT, "exact binomial test", "successes", None, True, "Clopper and Pearson (1934)",
+    Method(TEST_BINOMIAL_EXACT, "exact binomial test", "successes", None, True,
+           "exact binomial test (the Clopper-Pearson setting; Clopper and Pearson, 1934)",
            lambda m: "binomial_exact: exact binomial test of each arm's rate against the target"),
-    Method(TEST_ONE_SAMPLE_Z, "one-sample z test", "z", None, True, "one-sample z test against a fixed value",
+    Method(TEST_ONE_SAMPLE_Z, "one-sample z test", "z", None, True, "one-sample z test",
            lambda m: "one_sample_z: each arm against the target"),
-    Method(TEST_ONE_SAMPLE_T, "one-sample t test", "t", None, True, "Student (1908)",
+    Method(TEST_ONE_SAMPLE_T, "one-sample t test", "t", None, True, "one-sample t test (Student, 1908)",
            lambda m: "one_sample_t: each arm's mean against the target"),
 )}
 TWO_ARM_TESTS = tuple(k for k, m in METHODS.items() if not m.one_arm)

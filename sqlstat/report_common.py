@@ -1,5 +1,5 @@
 """JSON report payload -> what the HTML and Markdown reports share: number formats, method
-sources, the cautions and the SQL fingerprint.
+sources (read from the method registry), the cautions and the SQL fingerprint.
 
 Both human reports read the JSON payload (``report.to_dict``, the documented contract),
 never the result dataclasses, so they show exactly what the JSON says.
@@ -11,26 +11,10 @@ import hashlib
 import math
 from typing import Any
 
+from . import methods
 from .model import format_p
 from .report import CORRECTION_NAMES, _fmt, _pct
 
-# Each test id -> the published method it follows (authors, year), as docs/methods.md
-# states them. One table for both reports.
-METHOD_SOURCES: dict[str, str] = {
-    "two_proportion_z": "two-proportion z test, pooled standard error; Wald interval "
-                        "(Fleiss, Levin and Paik, 2003)",
-    "fisher_exact": "Fisher's (1935) exact test; Newcombe's (1998) hybrid score interval; conditional "
-                    "maximum-likelihood odds ratio (Cornfield, 1956)",
-    "z_known_sigma": "z test with a known standard deviation",
-    "welch_t": "Welch's (1947) t test with Welch-Satterthwaite degrees of freedom (Satterthwaite, 1946)",
-    "student_t": "Student's (1908) pooled-variance t test",
-    "ratio_delta_z": "delta method for a ratio of per-unit sums (Deng, Knoblich and Lu, 2018), z test",
-    "cuped_welch_t": "CUPED (Deng, Xu, Kohavi and Walker, 2013) as Lin's (2013) interacted regression, "
-                     "Welch degrees of freedom",
-    "binomial_exact": "exact binomial test (the Clopper-Pearson setting; Clopper and Pearson, 1934)",
-    "one_sample_z": "one-sample z test",
-    "one_sample_t": "one-sample t test (Student, 1908)",
-}
 SAMPLE_RATIO_SOURCE = "Pearson's (1900) chi-square goodness of fit against the planned split"
 ALWAYS_VALID_SOURCE = ("mixture sequential probability ratio test (Johari, Koomen, Pekelis and Walsh, 2017/2022); "
                        "repeated looks inflate fixed-horizon errors (Armitage, McPherson and Rowe, 1969)")
@@ -71,7 +55,9 @@ def sql_fingerprint(sql: str) -> str:
 
 
 def method_source(test: str) -> str:
-    return METHOD_SOURCES.get(test, "see docs/methods.md")
+    """The published method a test id follows (the registry's ``source``)."""
+    method = methods.METHODS.get(test)
+    return method.source if method else "see docs/methods.md"
 
 
 def correction_name(method: str) -> str:
